@@ -1,0 +1,3 @@
+module keyceiling
+
+go 1.26
