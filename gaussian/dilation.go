@@ -128,22 +128,25 @@ const EnvModes = 2
 //     by the two-mode squeezer G = 1+xi on (A, env2). Environment output (loss env, amplifier env).
 type Dilation struct {
 	EnvIn Matrix
-	U     Matrix
+	// EnvFactor is a square factor of EnvIn (EnvIn = EnvFactor EnvFactor^T): the symplectic
+	// that prepares the environment from vacuum.
+	EnvFactor Matrix
+	U         Matrix
 }
 
 // Dilation returns the model's Stinespring dilation (see the Dilation type).
 func (m Model) Dilation() Dilation {
 	switch m.Kind {
 	case ThermalLoss:
-		return Dilation{EnvIn: TMSV(m.NB), U: BeamSplitter(4, 1, 2, m.Eta)}
+		return Dilation{EnvIn: TMSV(m.NB), EnvFactor: TMSVFactor(m.NB), U: BeamSplitter(4, 1, 2, m.Eta)}
 	case Amplifier:
-		return Dilation{EnvIn: TMSV(m.NB), U: TwoModeSqueezer(4, 1, 2, m.Gain)}
+		return Dilation{EnvIn: TMSV(m.NB), EnvFactor: TMSVFactor(m.NB), U: TwoModeSqueezer(4, 1, 2, m.Gain)}
 	case AdditiveNoise:
 		bs := BeamSplitter(4, 1, 2, 1/(1+m.Xi))
 		amp := TwoModeSqueezer(4, 1, 3, 1+m.Xi)
 		var u Matrix
 		u.Mul(&amp, &bs)
-		return Dilation{EnvIn: Vacuum(2), U: u}
+		return Dilation{EnvIn: Vacuum(2), EnvFactor: Identity(4), U: u}
 	}
 	panic("gaussian: dilation of an invalid model")
 }
@@ -155,4 +158,14 @@ func (d *Dilation) Joint(in *Matrix, out *Matrix) {
 	v0.DirectSum(in, &d.EnvIn)
 	out.Congruence(&d.U, &v0, &tmp)
 	out.Symmetrize()
+}
+
+// JointFactor sets out to a factor F of the joint covariance (A', B, env1', env2') = F F^T,
+// given a factor inFactor of the pure input state on (A', A): F = U (inFactor (+) EnvFactor).
+// Factors keep the small symplectic eigenvalues accurate at large energies (see
+// FactorSpectrum). It allocates nothing.
+func (d *Dilation) JointFactor(inFactor *Matrix, out *Matrix) {
+	var f0 Matrix
+	f0.DirectSum(inFactor, &d.EnvFactor)
+	out.Mul(&d.U, &f0)
 }

@@ -243,3 +243,6 @@ func (m *Matrix) DirectSum(a, b *Matrix) {
 	m.SetBlock(0, 0, a)
 	m.SetBlock(a.rows, a.cols, b)
 }
+
+// Data returns the row-major backing slice of the rows x cols entries, for in-place kernels.
+func (m *Matrix) Data() []float64 { return m.d[:m.rows*m.cols] }

@@ -32,6 +32,27 @@ func TMSV(meanPhotons float64) Matrix {
 	return m
 }
 
+// TMSVFactor returns the two-mode squeezer of gain N+1, which prepares TMSV(N) from vacuum:
+// TMSV(N) = F F^T exactly, with entries of size sqrt(N) instead of N.
+func TMSVFactor(meanPhotons float64) Matrix {
+	return TwoModeSqueezer(2, 0, 1, meanPhotons+1)
+}
+
+// SqueezedThermalFactor returns the symplectic R(phi) S(r) on A times TMSVFactor(n): a factor
+// of SqueezedThermalPurification(n, r, phi).
+func SqueezedThermalFactor(n, r, phi float64) Matrix {
+	f := TMSVFactor(n)
+	if r == 0 && phi == 0 {
+		return f
+	}
+	s := Squeezer(2, 1, r)
+	rot := PhaseRotation(2, 1, phi)
+	var t, u Matrix
+	t.Mul(&rot, &s)
+	u.Mul(&t, &f)
+	return u
+}
+
 // SqueezedThermalPurification returns a pure two-mode covariance on (A', A) whose A marginal
 // is the squeezed thermal state R(phi) S(r) Thermal(n) S(r)^T R(phi)^T: TMSV(n) with the
 // squeezer and rotation applied to mode A (index 1). Its A marginal has mean photon number

@@ -29,6 +29,12 @@ func (in Input) Purification() gaussian.Matrix {
 	return gaussian.SqueezedThermalPurification(in.N, in.R, in.Phi)
 }
 
+// Factor returns the symplectic that prepares the purification from vacuum (a square factor
+// of Purification).
+func (in Input) Factor() gaussian.Matrix {
+	return gaussian.SqueezedThermalFactor(in.N, in.R, in.Phi)
+}
+
 // Valid reports whether the input parameters are finite and N >= 0.
 func (in Input) Valid() bool {
 	return in.N >= 0 && !math.IsInf(in.N, 0) && !math.IsNaN(in.R) && !math.IsInf(in.R, 0) &&
