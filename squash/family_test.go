@@ -225,7 +225,7 @@ func TestPhaseCovariance(t *testing.T) {
 	}
 }
 
-// For a pure global state, I(A';B|E') = H(B|E') + H(B|E''), E'' the discarded outputs of the
+// For a pure global state, I(A';B|E') = H(B|E') + H(B|E”), E” the discarded outputs of the
 // map's dilation (physics notes, derived there; this is its check). Vacuum ancillas make the
 // global state pure.
 func TestCMIIdentityWithDiscardedOutputs(t *testing.T) {
