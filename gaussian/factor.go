@@ -79,6 +79,19 @@ func FactorSpectrum(f *Matrix, out *Spectrum) error {
 	}
 	w := *f
 	lq(&w)
+	return triangularSpectrum(&w, false, out)
+}
+
+// NearDegenerateGap is the relative gap (nu_+ - nu_-)^2 / (nu_+^2 + nu_-^2) below which the
+// two-mode closed form hands over to the Jacobi SVD: the closed form computes that gap with
+// an absolute error of a few eps, which its square root turns into a split of order
+// sqrt(eps) between equal eigenvalues (e.g. those of every pure two-mode state).
+const NearDegenerateGap = 1e-6
+
+// triangularSpectrum computes the spectrum from the lower-triangular R held in the first d
+// columns of w (row stride w.cols), V = R R^T. forceJacobi skips the two-mode closed form.
+func triangularSpectrum(w *Matrix, forceJacobi bool, out *Spectrum) error {
+	d, r := w.rows, w.cols
 	n := d / 2
 	out.N = n
 	det := 1.0
@@ -93,39 +106,48 @@ func FactorSpectrum(f *Matrix, out *Spectrum) error {
 		out.Nu[0] = det
 		return nil
 	}
-	// m = R^T Omega R, d x d antisymmetric. R is lower triangular: R[i][j] = w.d[i*r+j], j <= i.
+	// m = R^T Omega R, d x d antisymmetric. R[i][j] = w.d[i*r+j] for j <= i, else 0.
 	var m Matrix
 	m.Reset(d, d)
-	rr := func(i, j int) float64 {
-		if j > i {
-			return 0
-		}
-		return w.d[i*r+j]
-	}
 	for i := 0; i < d; i++ {
 		for j := i + 1; j < d; j++ {
 			s := 0.0
-			for k := 0; k < n; k++ {
-				s += rr(2*k, i)*rr(2*k+1, j) - rr(2*k+1, i)*rr(2*k, j)
+			// R[a][i] is nonzero only for a >= i; R[a][j] only for a >= j > i.
+			for k := j / 2; k < n; k++ {
+				a, b := 2*k, 2*k+1
+				var rai, rbi, raj, rbj float64
+				if a >= i {
+					rai = w.d[a*r+i]
+				}
+				rbi = w.d[b*r+i]
+				if a >= j {
+					raj = w.d[a*r+j]
+				}
+				if b >= j {
+					rbj = w.d[b*r+j]
+				}
+				s += rai*rbj - rbi*raj
 			}
 			m.d[i*d+j] = s
 			m.d[j*d+i] = -s
 		}
 	}
-	if n == 2 {
+	if n == 2 && !forceJacobi {
 		fro := 0.0
 		for i := 0; i < d; i++ {
 			for j := i + 1; j < d; j++ {
 				fro += m.d[i*d+j] * m.d[i*d+j]
 			}
 		}
-		// fro = sum over the upper triangle = |M|_F^2 / 2 = nu_+^2 + nu_-^2.
-		sum := math.Sqrt(fro + 2*det)
-		diff := math.Sqrt(math.Max(fro-2*det, 0))
-		hi := (sum + diff) / 2
-		out.Nu[0] = det / hi
-		out.Nu[1] = hi
-		return nil
+		// fro = |M|_F^2 / 2 = nu_+^2 + nu_-^2 (Serafini's Delta); det = nu_+ nu_- (the
+		// Pfaffian of M).
+		gap := fro - 2*det
+		if gap > NearDegenerateGap*fro {
+			hi := (math.Sqrt(fro+2*det) + math.Sqrt(gap)) / 2
+			out.Nu[0] = det / hi
+			out.Nu[1] = hi
+			return nil
+		}
 	}
 	var sv [MaxDim]float64
 	singularValues(&m, sv[:d])

@@ -34,78 +34,43 @@ type Spectrum struct {
 }
 
 // SymplecticSpectrum computes the symplectic eigenvalues of the 2n x 2n covariance v.
-// One- and two-mode states use closed forms (sqrt(det V); and the Delta-determinant formula
-// of Serafini, Illuminati, De Siena, J. Phys. B 37, L21 (2004)); larger states use the
-// eigenvalues of -(L^T Omega L)^2, L the Cholesky factor of V (this matrix is similar to
-// -(Omega V)^2, whose eigenvalues are nu_k^2 twice each), found by cyclic Jacobi rotations.
+// One mode: nu = sqrt(det V). Two or more modes: the Cholesky factor V = L L^T and the
+// square-root method of FactorSpectrum (for two modes Serafini's invariants Delta = nu_+^2 +
+// nu_-^2 and det V = (nu_+ nu_-)^2 (Serafini, Illuminati, De Siena, J. Phys. B 37, L21
+// (2004)) evaluated from L without cancellation; a one-sided Jacobi SVD otherwise). A matrix
+// given entry by entry fixes eigenvalues near 1 only to about eps |V| cond(V); states of
+// large energy should be built as factors (FactorSpectrum), as the objective does.
 // It does not allocate. The error wraps ErrUnphysical if v is not positive definite.
 func SymplecticSpectrum(v *Matrix, out *Spectrum) error {
+	return symplecticSpectrum(v, false, out)
+}
+
+func symplecticSpectrum(v *Matrix, forceJacobi bool, out *Spectrum) error {
 	r, c := v.Dims()
 	if r != c || r%2 != 0 || r == 0 {
 		return fmt.Errorf("gaussian: covariance of shape %dx%d: %w", r, c, ErrUnphysical)
 	}
-	n := r / 2
-	out.N = n
+	out.N = r / 2
 	if !v.IsFinite() {
 		return fmt.Errorf("gaussian: non-finite covariance entry: %w", ErrUnphysical)
 	}
-	switch n {
-	case 1:
+	if r == 2 {
 		det := v.At(0, 0)*v.At(1, 1) - v.At(0, 1)*v.At(1, 0)
 		if det <= 0 || v.At(0, 0) <= 0 {
 			return fmt.Errorf("gaussian: single-mode determinant %g: %w", det, ErrUnphysical)
 		}
 		out.Nu[0] = math.Sqrt(det)
 		return nil
-	case 2:
-		return twoModeSpectrum(v, out)
 	}
-	return jacobiSpectrum(v, out)
+	l := *v
+	if !cholesky(&l) {
+		return fmt.Errorf("gaussian: covariance is not positive definite: %w", ErrUnphysical)
+	}
+	return triangularSpectrum(&l, forceJacobi, out)
 }
 
-func det2(a, b, c, d float64) float64 { return a*d - b*c }
-
-func twoModeSpectrum(v *Matrix, out *Spectrum) error {
-	dA := det2(v.At(0, 0), v.At(0, 1), v.At(1, 0), v.At(1, 1))
-	dB := det2(v.At(2, 2), v.At(2, 3), v.At(3, 2), v.At(3, 3))
-	dC := det2(v.At(0, 2), v.At(0, 3), v.At(1, 2), v.At(1, 3))
-	delta := dA + dB + 2*dC
-	dV := det4(v)
-	if !(dV > 0) || !(dA > 0) || v.At(0, 0) <= 0 {
-		return fmt.Errorf("gaussian: two-mode determinant %g: %w", dV, ErrUnphysical)
-	}
-	disc := delta*delta - 4*dV
-	if disc < 0 {
-		// Equal eigenvalues: the discriminant vanishes and round-off may make it negative.
-		disc = 0
-	}
-	plus := (delta + math.Sqrt(disc)) / 2
-	if !(plus > 0) {
-		return fmt.Errorf("gaussian: two-mode invariant Delta %g: %w", delta, ErrUnphysical)
-	}
-	minus := dV / plus // nu_-^2 nu_+^2 = det V; no cancellation near pure states
-	out.Nu[0] = math.Sqrt(minus)
-	out.Nu[1] = math.Sqrt(plus)
-	return nil
-}
-
-// det4 is the determinant of a 4x4 matrix by 2x2 minors (Laplace expansion on row pairs).
-func det4(v *Matrix) float64 {
-	a := func(i, j int) float64 { return v.At(i, j) }
-	s0 := a(0, 0)*a(1, 1) - a(1, 0)*a(0, 1)
-	s1 := a(0, 0)*a(1, 2) - a(1, 0)*a(0, 2)
-	s2 := a(0, 0)*a(1, 3) - a(1, 0)*a(0, 3)
-	s3 := a(0, 1)*a(1, 2) - a(1, 1)*a(0, 2)
-	s4 := a(0, 1)*a(1, 3) - a(1, 1)*a(0, 3)
-	s5 := a(0, 2)*a(1, 3) - a(1, 2)*a(0, 3)
-	c5 := a(2, 2)*a(3, 3) - a(3, 2)*a(2, 3)
-	c4 := a(2, 1)*a(3, 3) - a(3, 1)*a(2, 3)
-	c3 := a(2, 1)*a(3, 2) - a(3, 1)*a(2, 2)
-	c2 := a(2, 0)*a(3, 3) - a(3, 0)*a(2, 3)
-	c1 := a(2, 0)*a(3, 2) - a(3, 0)*a(2, 2)
-	c0 := a(2, 0)*a(3, 1) - a(3, 0)*a(2, 1)
-	return s0*c5 - s1*c4 + s2*c3 + s3*c2 - s4*c1 + s5*c0
-}
+// jacobiSpectrum is SymplecticSpectrum without the two-mode closed form (for cross-checks).
+func jacobiSpectrum(v *Matrix, out *Spectrum) error { return symplecticSpectrum(v, true, out) }
 
 // cholesky overwrites the lower triangle of a (n x n) with L such that a = L L^T and zeroes
 // the upper triangle. It reports false if a is not numerically positive definite.
@@ -133,40 +98,6 @@ func cholesky(a *Matrix) bool {
 		}
 	}
 	return true
-}
-
-func jacobiSpectrum(v *Matrix, out *Spectrum) error {
-	n := v.rows / 2
-	dim := v.rows
-	l := *v
-	if !cholesky(&l) {
-		return fmt.Errorf("gaussian: covariance is not positive definite: %w", ErrUnphysical)
-	}
-	// a = L^T Omega L, antisymmetric; b = a a^T = -a a, symmetric with eigenvalues nu_k^2.
-	var a, b Matrix
-	a.Reset(dim, dim)
-	for i := 0; i < dim; i++ {
-		for j := 0; j < dim; j++ {
-			s := 0.0
-			for k := 0; k < n; k++ {
-				// (Omega L)_{2k, j} = L_{2k+1, j}; (Omega L)_{2k+1, j} = -L_{2k, j}
-				s += l.d[(2*k)*dim+i]*l.d[(2*k+1)*dim+j] - l.d[(2*k+1)*dim+i]*l.d[(2*k)*dim+j]
-			}
-			a.d[i*dim+j] = s
-		}
-	}
-	b.MulTrans(&a, &a)
-	b.Symmetrize()
-	var ev [MaxDim]float64
-	SymmetricEigenvalues(&b, ev[:dim])
-	for k := 0; k < n; k++ {
-		x := 0.5 * (ev[2*k] + ev[2*k+1])
-		if !(x > 0) {
-			return fmt.Errorf("gaussian: symplectic eigenvalue squared %g: %w", x, ErrUnphysical)
-		}
-		out.Nu[k] = math.Sqrt(x)
-	}
-	return nil
 }
 
 // SymmetricEigenvalues writes the eigenvalues of the symmetric matrix s, ascending, into ev

@@ -20,6 +20,9 @@ const (
 	// RecheckTolerance is the largest allowed difference in bits between the float64 bound
 	// and the extended-precision recomputation of the same map at the same input.
 	RecheckTolerance = 1e-8
+	// CovarianceTolerance is the largest change in bits of the objective under a rotation of
+	// a squeezed input that a map claimed phase covariant may show (round-off only).
+	CovarianceTolerance = 1e-9
 	// LowerSlack is how far below the best lower bound a bound may fall before it is
 	// declared a bug (an upper bound below an achievable rate is impossible).
 	LowerSlack = 1e-9
@@ -51,6 +54,13 @@ func (r *runner) certify(res *Result) error {
 	for i := 0; i < 2*ch.Out; i++ {
 		ch.Y.Set(i, i, ch.Y.At(i, i)+CPSlack)
 	}
+	// Stronger squeezing can leave a deficit larger than CPSlack; then size the nudge to
+	// the map (refused beyond 1e-12 relative, see gaussian.PreciseNudgeCP).
+	if m, err := gaussian.PreciseCPCertify(&ch); err == nil && !(m > 0) {
+		if nudged, _, err := gaussian.PreciseNudgeCP(&ch); err == nil {
+			ch = nudged
+		}
+	}
 	res.Map = ch
 	rc, sup, err := Certify(r.p, &ch, res.PhaseCovariant)
 	res.Recheck, res.Sup = rc, sup
@@ -76,6 +86,11 @@ func Certify(p Point, ch *gaussian.Channel, covariant bool) (Recheck, squash.Inp
 	}
 	if !(margin > 0) {
 		return rc, squash.InputSup{}, fmt.Errorf("map is not certified completely positive: smallest eigenvalue %.3g", margin)
+	}
+	if covariant {
+		if err := CheckCovariance(p.Model, ch); err != nil {
+			return rc, squash.InputSup{}, err
+		}
 	}
 	sup, err := squash.Supremum(p.Model, ch, p.Energy, covariant)
 	if err != nil {
@@ -105,4 +120,32 @@ func Certify(p Point, ch *gaussian.Channel, covariant bool) (Recheck, squash.Inp
 	}
 	rc.Passed = true
 	return rc, sup, nil
+}
+
+// CheckCovariance tests a map's claim to phase covariance: for a covariant map the objective
+// with a squeezed input cannot depend on the squeezing angle, because the rotation is undone
+// by local unitaries on B and E' (physics notes). Several angles and two squeezings are
+// tried; a change above CovarianceTolerance refutes the claim. This is a necessary
+// condition checked numerically, so a map that fails it is never given the thermal-input
+// supremum.
+func CheckCovariance(model gaussian.Model, ch *gaussian.Channel) error {
+	for _, in := range []squash.Input{{N: 0.3, R: 0.5}, {N: 1.2, R: 0.9}} {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for k := 0; k < 5; k++ {
+			in.Phi = float64(k) * math.Pi / 5
+			ev, err := squash.NewEvaluator(model, in)
+			if err != nil {
+				return err
+			}
+			v, err := ev.Half(ch)
+			if err != nil {
+				return fmt.Errorf("covariance check: %w", err)
+			}
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+		if hi-lo > CovarianceTolerance*math.Max(1, hi) {
+			return fmt.Errorf("map claimed phase covariant is not: the objective changes by %.3g bits with the input's squeezing angle", hi-lo)
+		}
+	}
+	return nil
 }

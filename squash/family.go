@@ -56,13 +56,24 @@ func (d *Dilation) Channel() gaussian.Channel {
 	return ch
 }
 
-// MapOf writes the squashing map (X, Y) of f at params into ch without allocating.
+// MapOf writes the squashing map (X, Y) of f at params into ch. It allocates its scratch
+// (the symplectic escapes through the Family interface); hot paths use a MapWork.
 func MapOf(f Family, params []float64, ch *gaussian.Channel) {
-	var s gaussian.Matrix
-	var anc [gaussian.MaxModes]float64
+	var w MapWork
+	w.Map(f, params, ch)
+}
+
+// MapWork is reusable scratch for building maps without allocating.
+type MapWork struct {
+	s   gaussian.Matrix
+	anc [gaussian.MaxModes]float64
+}
+
+// Map writes the squashing map (X, Y) of f at params into ch. It does not allocate.
+func (w *MapWork) Map(f Family, params []float64, ch *gaussian.Channel) {
 	k := f.Ancillas()
-	f.Build(params, &s, anc[:k])
-	channelOf(&s, anc[:k], f.Kept(), ch)
+	f.Build(params, &w.s, w.anc[:k])
+	channelOf(&w.s, w.anc[:k], f.Kept(), ch)
 }
 
 // channelOf computes X = S[kept, env] and Y = S[kept, anc] diag((2n_j+1) I) S[kept, anc]^T.

@@ -23,6 +23,7 @@ type Target struct {
 	inputs []Input
 	ladder *Ladder
 	ch     gaussian.Channel
+	work   MapWork
 	// Evaluations counts calls of Value.
 	Evaluations int
 }
@@ -73,7 +74,7 @@ func (t *Target) Inputs() []Input { return t.inputs }
 // Value returns the target at params, +Inf where the evaluation fails.
 func (t *Target) Value(params []float64) float64 {
 	t.Evaluations++
-	MapOf(t.Family, params, &t.ch)
+	t.work.Map(t.Family, params, &t.ch)
 	if t.ladder != nil {
 		v, _, err := t.ladder.Half(&t.ch)
 		if err != nil || math.IsNaN(v) {
