@@ -17,18 +17,18 @@ func NewChannel(x, y Matrix) (Channel, error) {
 	xr, xc := x.Dims()
 	yr, yc := y.Dims()
 	if xr%2 != 0 || xc%2 != 0 || xr == 0 || xc == 0 {
-		return Channel{}, fmt.Errorf("X is %dx%d: want an even number of rows and columns", xr, xc)
+		return Channel{}, fmt.Errorf("map X is %dx%d: want an even number of rows and columns", xr, xc)
 	}
 	if yr != xr || yc != xr {
-		return Channel{}, fmt.Errorf("Y is %dx%d: want %dx%d to match X's %d rows", yr, yc, xr, xr, xr)
+		return Channel{}, fmt.Errorf("map Y is %dx%d: want %dx%d to match X's %d rows", yr, yc, xr, xr, xr)
 	}
 	if !x.IsFinite() || !y.IsFinite() {
-		return Channel{}, fmt.Errorf("X or Y has a non-finite entry")
+		return Channel{}, fmt.Errorf("map X or Y has a non-finite entry")
 	}
 	for i := 0; i < yr; i++ {
 		for j := 0; j < i; j++ {
 			if math.Abs(y.At(i, j)-y.At(j, i)) > 1e-12*math.Max(1, y.MaxAbs()) {
-				return Channel{}, fmt.Errorf("Y is not symmetric at (%d,%d)", i, j)
+				return Channel{}, fmt.Errorf("map Y is not symmetric at (%d,%d)", i, j)
 			}
 		}
 	}

@@ -77,7 +77,7 @@ func (t *Target) Value(params []float64) float64 {
 	t.work.Map(t.Family, params, &t.ch)
 	if t.ladder != nil {
 		v, _, err := t.ladder.Half(&t.ch)
-		if err != nil || math.IsNaN(v) {
+		if err != nil || math.IsNaN(v) || v < -NegativeGuard {
 			return math.Inf(1)
 		}
 		return v
@@ -85,10 +85,16 @@ func (t *Target) Value(params []float64) float64 {
 	best := math.Inf(-1)
 	for _, ev := range t.evs {
 		v, err := ev.Half(&t.ch)
-		if err != nil || math.IsNaN(v) {
+		if err != nil || math.IsNaN(v) || v < -NegativeGuard {
 			return math.Inf(1)
 		}
 		best = math.Max(best, v)
 	}
 	return best
 }
+
+// NegativeGuard: a conditional mutual information is never negative (strong subadditivity,
+// Lieb, Ruskai, J. Math. Phys. 14, 1938 (1973)), so a value below -NegativeGuard can only
+// come from round-off dominating the evaluation, and Value returns +Inf for it instead of a
+// number an optimiser would chase (physics notes, "Numerical trap").
+const NegativeGuard = 1e-10
