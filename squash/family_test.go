@@ -309,7 +309,7 @@ func TestSupremumThermal(t *testing.T) {
 	}
 }
 
-// The objective agrees with the complementary formula H(B|E') + H(B|E'') on random members
+// The objective agrees with the complementary formula H(B|E') + H(B|E”) on random members
 // of every family, with thermal ancillas, for all three channels and squeezed inputs (the
 // identity of the physics notes, derived there; two independent computations).
 func TestHalfAgreesWithComplementFormula(t *testing.T) {
