@@ -7,7 +7,7 @@ import (
 )
 
 // HalfByComplement computes 1/2 I(A';B|E') for the family member d by a second formula:
-// for a pure global state, I(A';B|E') = H(B|E') + H(B|E”), where E” holds everything the
+// for a pure global state, I(A';B|E') = H(B|E') + H(B|Ed), where Ed (E-double-prime in the physics notes) holds everything the
 // squashing map's dilation discards (its discarded outputs and the purifications of its
 // thermal ancillas). The global state is built explicitly, from vacuum, as the product of
 // the preparation of the input, the environment and the ancillas, the channel's dilation and

@@ -225,7 +225,7 @@ func TestPhaseCovariance(t *testing.T) {
 	}
 }
 
-// For a pure global state, I(A';B|E') = H(B|E') + H(B|E”), E” the discarded outputs of the
+// For a pure global state, I(A';B|E') = H(B|E') + H(B|Ed), Ed (E-double-prime) the discarded outputs of the
 // map's dilation (physics notes, derived there; this is its check). Vacuum ancillas make the
 // global state pure.
 func TestCMIIdentityWithDiscardedOutputs(t *testing.T) {
@@ -309,7 +309,7 @@ func TestSupremumThermal(t *testing.T) {
 	}
 }
 
-// The objective agrees with the complementary formula H(B|E') + H(B|E”) on random members
+// The objective agrees with the complementary formula H(B|E') + H(B|Ed) on random members
 // of every family, with thermal ancillas, for all three channels and squeezed inputs (the
 // identity of the physics notes, derived there; two independent computations).
 func TestHalfAgreesWithComplementFormula(t *testing.T) {
