@@ -102,6 +102,7 @@ type Record struct {
 	Format     int               `json:"format"`
 	Tool       string            `json:"tool"`
 	Version    string            `json:"version"`
+	Plan       string            `json:"plan_hash,omitempty"` // search.Plan.Hash of a sweep's record; empty from `bound`
 	Key        string            `json:"key"`
 	Channel    ChannelRecord     `json:"channel"`
 	Energy     Num               `json:"energy"`

@@ -79,6 +79,11 @@ func (r *runner) certify(res *Result) error {
 // `keyceiling check` runs on every stored record.
 func Certify(p Point, ch *gaussian.Channel, covariant bool) (Recheck, squash.InputSup, error) {
 	var rc Recheck
+	if covariant {
+		if err := CheckCovariance(p.Model, ch); err != nil {
+			return rc, squash.InputSup{}, err
+		}
+	}
 	margin, err := gaussian.PreciseCPCertify(ch)
 	rc.CPMargin = margin
 	if err != nil {
@@ -86,11 +91,6 @@ func Certify(p Point, ch *gaussian.Channel, covariant bool) (Recheck, squash.Inp
 	}
 	if !(margin > 0) {
 		return rc, squash.InputSup{}, fmt.Errorf("map is not certified completely positive: smallest eigenvalue %.3g", margin)
-	}
-	if covariant {
-		if err := CheckCovariance(p.Model, ch); err != nil {
-			return rc, squash.InputSup{}, err
-		}
 	}
 	sup, err := squash.Supremum(p.Model, ch, p.Energy, covariant)
 	if err != nil {

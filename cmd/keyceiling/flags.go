@@ -34,8 +34,7 @@ func newFlags(name, usage, example string, stdout io.Writer) *pflag.FlagSet {
 func parseFlags(fs *pflag.FlagSet, args []string) error {
 	if err := fs.Parse(args); err != nil {
 		if err == pflag.ErrHelp {
-			fs.Usage()
-			return errHelp
+			return errHelp // pflag has already called fs.Usage
 		}
 		return badInput("%v", err)
 	}
