@@ -7,7 +7,9 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"encoding/xml"
 	"fmt"
+	"image/png"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -487,8 +489,10 @@ func TestE2EDemo(t *testing.T) {
 		t.Fatalf("demo sweep: exit %d\n%s", r.code, r.stderr)
 	}
 	out := filepath.Join(dir, "keyceiling-out")
-	if keys := e2eKeys(t, e2eRead(t, filepath.Join(out, "records.jsonl"))); len(keys) != 28 {
-		t.Errorf("%d records, want 28", len(keys))
+	// 5 losses x 3 noise levels x 6 energies; 80 km at N_B = 0.05 is entanglement breaking
+	// (N_B >= eta/(1-eta)), so its 6 points are not searched.
+	if keys := e2eKeys(t, e2eRead(t, filepath.Join(out, "records.jsonl"))); len(keys) != 84 {
+		t.Errorf("%d records, want 84", len(keys))
 	}
 	rows, err := csv.NewReader(bytes.NewReader(e2eRead(t, filepath.Join(out, "summary.csv")))).ReadAll()
 	if err != nil {
@@ -500,8 +504,26 @@ func TestE2EDemo(t *testing.T) {
 			breaking++
 		}
 	}
-	if len(rows) != 31 || breaking != 2 {
-		t.Errorf("summary.csv: %d rows, %d entanglement breaking; want 31 and 2", len(rows), breaking)
+	if len(rows) != 91 || breaking != 6 {
+		t.Errorf("summary.csv: %d rows, %d entanglement breaking; want 91 and 6", len(rows), breaking)
+	}
+	// The demo's table and figures, read back.
+	md := string(e2eRead(t, filepath.Join(out, "table.md")))
+	if n := strings.Count(md, "\n|"); n != 85 { // header rule + 84 rows after the header line
+		t.Errorf("table.md has %d table lines after the header, want 85", n)
+	}
+	for _, name := range []string{"bounds-vs-loss-ns1", "bounds-vs-loss-unconstrained", "crossover"} {
+		img, err := png.Decode(bytes.NewReader(e2eRead(t, filepath.Join(out, name+".png"))))
+		if err != nil {
+			t.Errorf("%s.png: %v", name, err)
+			continue
+		}
+		if b := img.Bounds(); b.Dx() < 600 || b.Dy() < 400 {
+			t.Errorf("%s.png is %v", name, b)
+		}
+		if err := xml.Unmarshal(e2eRead(t, filepath.Join(out, name+".svg")), new(struct{})); err != nil {
+			t.Errorf("%s.svg is not XML: %v", name, err)
+		}
 	}
 	if !strings.Contains(string(e2eRead(t, filepath.Join(out, "plan.txt"))), "loss-db 1, 2, 4, 8, 16\n") {
 		t.Error("plan.txt is not the demo plan")

@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"strconv"
+	"strings"
 	"sync"
 	"syscall"
 	"time"
@@ -289,7 +290,78 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	if len(failed) > 0 {
 		return fmt.Errorf("%d points have no certified bound (listed above); re-running the command retries them", len(failed))
 	}
+	if demo && !shard.Sharded() {
+		files, err := writeDemoExtras(outDir, out.Records())
+		if err != nil {
+			return fmt.Errorf("demo table and figures: %v", err)
+		}
+		if !quiet {
+			fmt.Fprintf(stderr, "keyceiling sweep: wrote %s\n", strings.Join(files, ", "))
+			fmt.Fprintln(stderr, "keyceiling sweep: "+results.Disclaimer)
+		}
+	}
 	return nil
+}
+
+// writeDemoExtras writes the demo's table (Markdown) and figures: bound versus loss at each
+// finite energy and unconstrained, and the crossover energy below which the squashing bound
+// beats the relative-entropy bound. It returns the files written.
+func writeDemoExtras(dir string, byKey map[string]results.Record) ([]string, error) {
+	recs := make([]results.Record, 0, len(byKey))
+	for _, r := range byKey {
+		recs = append(recs, r)
+	}
+	results.SortRecords(recs)
+	var written []string
+	tab, err := results.BuildTable(recs, results.TableSpec{})
+	if err != nil {
+		return written, err
+	}
+	var buf bytes.Buffer
+	if err := tab.Write(&buf, "markdown", 4); err != nil {
+		return written, err
+	}
+	path := filepath.Join(dir, "table.md")
+	if err := results.WriteFileAtomic(path, buf.Bytes()); err != nil {
+		return written, err
+	}
+	written = append(written, path)
+	energies := map[float64]bool{}
+	for _, r := range recs {
+		energies[float64(r.Energy)] = true
+	}
+	type fig struct {
+		name string
+		spec results.PlotSpec
+	}
+	var figs []fig
+	if energies[1] {
+		figs = append(figs, fig{"bounds-vs-loss-ns1", results.PlotSpec{Kind: "bound-vs-loss", Energy: 1}})
+	}
+	if energies[math.Inf(1)] {
+		figs = append(figs, fig{"bounds-vs-loss-unconstrained", results.PlotSpec{Kind: "bound-vs-loss", Energy: math.Inf(1)}})
+	}
+	if len(energies) >= 2 {
+		figs = append(figs, fig{"crossover", results.PlotSpec{Kind: "crossover"}})
+	}
+	for _, f := range figs {
+		fg, err := results.NewFigure(recs, f.spec)
+		if err != nil {
+			return written, fmt.Errorf("%s: %v", f.name, err)
+		}
+		for _, format := range []string{"png", "svg"} {
+			data, err := fg.Render(format)
+			if err != nil {
+				return written, err
+			}
+			path := filepath.Join(dir, f.name+"."+format)
+			if err := results.WriteFileAtomic(path, data); err != nil {
+				return written, err
+			}
+			written = append(written, path)
+		}
+	}
+	return written, nil
 }
 
 // planWithOverrides parses a plan file and applies the search flags given on the command line.
