@@ -17,54 +17,71 @@ import (
 // the symplectic eigenvalues are the singular values of R^T Omega R (similar to Omega V).
 // For one mode nu = |det R|; for two modes nu_+ nu_- = |det R| (the Pfaffian of R^T Omega R)
 // and nu_+^2 + nu_-^2 = |R^T Omega R|_F^2 / 2 (Serafini's Delta), which fixes the small
-// eigenvalue to relative precision eps; for three or more modes a one-sided Jacobi SVD of
-// R^T Omega R (Hestenes, J. SIAM 6, 51 (1958)) gives absolute precision eps * N. This is
+// eigenvalue to relative precision eps; for three or more modes (and nearly degenerate
+// pairs) SkewSpectrum's Householder reduction of R^T Omega R to bidiagonal form and QR
+// sweeps give absolute precision eps * N, as a one-sided Jacobi SVD of R^T Omega R
+// (Hestenes, J. SIAM 6, 51 (1958)) does, which remains as fallback and cross-check. This is
 // the square-root idea of Kalman filtering (Bierman, Factorization Methods for Discrete
-// Sequential Estimation, 1977) applied to symplectic spectra.
+// Sequential Estimation, 1977) applied to symplectic spectra. Phase-covariant states in real
+// form reduce to an n x n symmetric problem (CovariantSpectrum).
 
 // lq overwrites the first d columns of the d x r matrix f (r >= d) with the lower-triangular
-// R of f = R Q. Entries beyond the triangle are left as scratch.
+// R of f = R Q (see LQ).
 func lq(f *Matrix) {
-	d, r := f.rows, f.cols
-	a := f.d[:d*r]
+	LQ(f.d[:f.rows*f.cols], f.rows, f.cols)
+}
+
+// LQ is lq on a row-major d x r slice (r >= d): it overwrites the first d columns of a with
+// the lower-triangular R of a = R Q (Householder reflections from the right, backward
+// stable) and zeroes the rest of each row. It does not allocate.
+func LQ(a []float64, d, r int) {
+	a = a[:d*r]
 	for i := 0; i < d; i++ {
-		// Householder reflection on columns i..r-1 zeroing row i right of the diagonal.
-		norm := 0.0
-		for j := i; j < r; j++ {
-			norm = math.Hypot(norm, a[i*r+j])
-		}
+		row := a[i*r+i : i*r+r]
+		norm := rowNorm(row)
 		if norm == 0 {
 			continue
 		}
+		x0 := row[0]
 		alpha := -norm
-		if a[i*r+i] < 0 {
+		if x0 < 0 {
 			alpha = norm
 		}
-		// v = row_i[i:] - alpha e_i, stored in place; beta = 2 / v.v
-		a[i*r+i] -= alpha
-		vv := 0.0
-		for j := i; j < r; j++ {
-			vv += a[i*r+j] * a[i*r+j]
-		}
-		if vv == 0 {
-			a[i*r+i] = alpha
-			continue
-		}
+		// v = row_i[i:] - alpha e_i, stored in place; 2 / v.v = 1 / (norm (norm + |x0|)).
+		row[0] = x0 - alpha
+		beta := 1 / (norm * (norm + math.Abs(x0)))
 		for k := i + 1; k < d; k++ {
+			rk := a[k*r+i : k*r+r]
+			rk = rk[:len(row)]
 			dot := 0.0
-			for j := i; j < r; j++ {
-				dot += a[k*r+j] * a[i*r+j]
+			for j, v := range row {
+				dot += rk[j] * v
 			}
-			s := 2 * dot / vv
-			for j := i; j < r; j++ {
-				a[k*r+j] -= s * a[i*r+j]
+			s := beta * dot
+			for j, v := range row {
+				rk[j] -= s * v
 			}
 		}
-		a[i*r+i] = alpha
-		for j := i + 1; j < r; j++ {
-			a[i*r+j] = 0
-		}
+		row[0] = alpha
+		clear(row[1:])
 	}
+}
+
+// rowNorm is the Euclidean norm of x, by a plain sum of squares unless that over- or
+// underflows (then by math.Hypot).
+func rowNorm(x []float64) float64 {
+	s := 0.0
+	for _, v := range x {
+		s += v * v
+	}
+	if s > 0x1p-900 && s < 0x1p900 {
+		return math.Sqrt(s)
+	}
+	h := 0.0
+	for _, v := range x {
+		h = math.Hypot(h, v)
+	}
+	return h
 }
 
 // FactorSpectrum computes the symplectic eigenvalues of V = F F^T from a 2n x r factor F
@@ -132,11 +149,31 @@ func triangularSpectrum(w *Matrix, forceJacobi bool, out *Spectrum) error {
 			m.d[j*d+i] = -s
 		}
 	}
-	if n == 2 && !forceJacobi {
+	if forceJacobi {
+		skewJacobi(m.d[:d*d], d, out.Nu[:n])
+		return nil
+	}
+	SkewFactorSpectrum(m.d[:d*d], d, det, out)
+	return nil
+}
+
+// SkewFactorSpectrum writes into out the symplectic eigenvalues of V = R R^T given
+// m = R^T Omega R (d x d, row-major; overwritten) and det = |det R| > 0: nu = det for one
+// mode; for two modes the closed form nu_+ nu_- = det, nu_+^2 + nu_-^2 = |m|_F^2 / 2 (relative
+// precision eps) unless the two are nearly degenerate (NearDegenerateGap); SkewSpectrum
+// otherwise. It does not allocate.
+func SkewFactorSpectrum(m []float64, d int, det float64, out *Spectrum) {
+	n := d / 2
+	out.N = n
+	if n == 1 {
+		out.Nu[0] = det
+		return
+	}
+	if n == 2 {
 		fro := 0.0
 		for i := 0; i < d; i++ {
 			for j := i + 1; j < d; j++ {
-				fro += m.d[i*d+j] * m.d[i*d+j]
+				fro += m[i*d+j] * m[i*d+j]
 			}
 		}
 		// fro = |M|_F^2 / 2 = nu_+^2 + nu_-^2 (Serafini's Delta); det = nu_+ nu_- (the
@@ -146,15 +183,10 @@ func triangularSpectrum(w *Matrix, forceJacobi bool, out *Spectrum) error {
 			hi := (math.Sqrt(fro+2*det) + math.Sqrt(gap)) / 2
 			out.Nu[0] = det / hi
 			out.Nu[1] = hi
-			return nil
+			return
 		}
 	}
-	var sv [MaxDim]float64
-	singularValues(&m, sv[:d])
-	for k := 0; k < n; k++ {
-		out.Nu[k] = 0.5 * (sv[2*k] + sv[2*k+1])
-	}
-	return nil
+	SkewSpectrum(m, d, out.Nu[:n])
 }
 
 // singularValues writes the singular values of the square matrix a, ascending, into sv by
@@ -173,7 +205,9 @@ func singularValues(a *Matrix, sv []float64) {
 					beta += y * y
 					gamma += x * y
 				}
-				if gamma == 0 || math.Abs(gamma) <= 1e-17*math.Sqrt(alpha*beta) {
+				// Columns orthogonal to round-off (n ulps) are left alone; a threshold below
+				// that is never met and would run all 60 sweeps.
+				if gamma == 0 || math.Abs(gamma) <= float64(n)*0x1p-53*math.Sqrt(alpha*beta) {
 					continue
 				}
 				rotated = true
@@ -289,4 +323,442 @@ func SymmetricSqrtFactor(s *Matrix, g *Matrix, allowance float64) error {
 		}
 	}
 	return nil
+}
+
+// SkewSpectrum writes into nu[:d/2], ascending, the singular values of the antisymmetric
+// d x d matrix a (row-major; overwritten), each pair counted once: for a = R^T Omega R these
+// are the symplectic eigenvalues of R R^T. It does not allocate.
+//
+// Householder similarity transforms reduce a to skew-symmetric tridiagonal form (about
+// 2 d^3 / 3 flops; backward stable, so the error is of order eps |a|, as for a Jacobi SVD of
+// a); an odd-even permutation turns that into an n x n bidiagonal matrix (n = d/2) with the
+// same singular values (Ward, Gray, ACM TOMS 4, 278 (1978)), which implicit-shift
+// Golub-Kahan QR sweeps with a closed form for 2 x 2 blocks finish (Golub, Van Loan, Matrix
+// Computations, 4th ed., section 8.6; LAPACK dlas2). Should the sweeps not converge, the
+// one-sided Jacobi SVD of a takes over.
+func SkewSpectrum(a []float64, d int, nu []float64) {
+	n := d / 2
+	var e [MaxDim]float64
+	if !skewTridiagonal(a[:d*d], d, e[:d-1]) {
+		skewJacobi(a, d, nu)
+		return
+	}
+	// Odd-even permutation: the tridiagonal matrix with super-diagonal e_0 .. e_{d-2} has
+	// the singular values of the upper bidiagonal matrix with diagonal e_0, e_2, ... and
+	// super-diagonal e_1, e_3, ... (signs do not matter).
+	var q, f [MaxModes]float64
+	for k := 0; k < n; k++ {
+		q[k] = math.Abs(e[2*k])
+		if k < n-1 {
+			f[k] = math.Abs(e[2*k+1])
+		}
+	}
+	if !bidiagonalSV(q[:n], f[:n]) {
+		// a was overwritten: rebuild the tridiagonal matrix (same singular values).
+		clear(a[:d*d])
+		for k := 0; k < d-1; k++ {
+			a[k*d+k+1] = e[k]
+			a[(k+1)*d+k] = -e[k]
+		}
+		skewJacobi(a, d, nu)
+		return
+	}
+	copy(nu[:n], q[:n])
+	insertionSort(nu[:n])
+}
+
+// skewJacobi is SkewSpectrum by the one-sided Jacobi SVD.
+func skewJacobi(a []float64, d int, nu []float64) {
+	var m Matrix
+	m.Reset(d, d)
+	copy(m.d[:d*d], a[:d*d])
+	var sv [MaxDim]float64
+	singularValues(&m, sv[:d])
+	for k := 0; k < d/2; k++ {
+		nu[k] = 0.5 * (sv[2*k] + sv[2*k+1])
+	}
+}
+
+func insertionSort(x []float64) {
+	for i := 1; i < len(x); i++ {
+		v := x[i]
+		j := i - 1
+		for ; j >= 0 && x[j] > v; j-- {
+			x[j+1] = x[j]
+		}
+		x[j+1] = v
+	}
+}
+
+// skewTridiagonal reduces the antisymmetric d x d matrix a (overwritten) to tridiagonal
+// form Q^T a Q and writes its super-diagonal into e[:d-1]. It reports false for non-finite
+// input.
+func skewTridiagonal(a []float64, d int, e []float64) bool {
+	var v, w [MaxDim]float64
+	for k := 0; k < d-2; k++ {
+		// Reflect x = a[k+1:, k] onto alpha e_1 with H = I - beta v v^T.
+		m := d - k - 1
+		s := 0.0
+		for i := 0; i < m; i++ {
+			x := a[(k+1+i)*d+k]
+			v[i] = x
+			s += x * x
+		}
+		if !(s < math.Inf(1)) {
+			return false
+		}
+		if s == 0 {
+			e[k] = 0
+			continue
+		}
+		norm := math.Sqrt(s)
+		x0 := v[0]
+		alpha := -norm
+		if x0 < 0 {
+			alpha = norm
+		}
+		v[0] = x0 - alpha
+		beta := 1 / (norm * (norm + math.Abs(x0)))
+		// Trailing block b = a[k+1:, k+1:] <- H b H = b + v w^T - w v^T, w = beta b v
+		// (v^T b v = 0 for antisymmetric b).
+		for i := 0; i < m; i++ {
+			row := a[(k+1+i)*d+k+1 : (k+1+i)*d+d]
+			t := 0.0
+			for j, x := range row {
+				t += x * v[j]
+			}
+			w[i] = beta * t
+		}
+		for i := 0; i < m; i++ {
+			row := a[(k+1+i)*d+k+1 : (k+1+i)*d+d]
+			vi, wi := v[i], w[i]
+			for j := range row {
+				row[j] += vi*w[j] - wi*v[j]
+			}
+		}
+		// The reflected column is alpha e_1: a[k+1][k] = alpha, a[k][k+1] = -alpha.
+		e[k] = -alpha
+	}
+	e[d-2] = a[(d-2)*d+d-1]
+	return !math.IsNaN(e[d-2]) && !math.IsInf(e[d-2], 0)
+}
+
+// bidiagonalSV overwrites q with the singular values (unordered, >= 0) of the upper
+// bidiagonal matrix with diagonal q and super-diagonal f[:len(q)-1] (f is destroyed), by
+// implicit-shift Golub-Kahan QR sweeps with deflation and a closed form for 2 x 2 blocks.
+// The error is of order eps times the matrix norm. It reports false if it did not converge
+// or met a zero diagonal entry (the caller falls back to Jacobi).
+func bidiagonalSV(q, f []float64) bool {
+	const eps = 0x1p-52
+	n := len(q)
+	hi := n - 1
+	for iter := 0; hi > 0; iter++ {
+		if iter > 40*n {
+			return false
+		}
+		// Deflate negligible super-diagonal entries at the bottom.
+		if math.Abs(f[hi-1]) <= eps*(math.Abs(q[hi-1])+math.Abs(q[hi])) {
+			f[hi-1] = 0
+			hi--
+			continue
+		}
+		lo := hi - 1
+		for lo > 0 && math.Abs(f[lo-1]) > eps*(math.Abs(q[lo-1])+math.Abs(q[lo])) {
+			lo--
+		}
+		if lo > 0 {
+			f[lo-1] = 0
+		}
+		if hi-lo == 1 {
+			smin, smax := sv2x2(q[lo], f[lo], q[hi])
+			q[lo], q[hi], f[lo] = smax, smin, 0
+			hi -= 2
+			continue
+		}
+		for i := lo; i <= hi; i++ {
+			if q[i] == 0 {
+				return false
+			}
+		}
+		// Shift: the smaller singular value of the trailing 2 x 2 block, squared
+		// (LAPACK dbdsqr's choice).
+		mu, _ := sv2x2(q[hi-1], f[hi-1], q[hi])
+		mu *= mu
+		y := (q[lo] - mu/q[lo]) * q[lo] // q_lo^2 - mu without overflow of the square
+		z := q[lo] * f[lo]
+		for k := lo; k < hi; k++ {
+			// Right rotation on columns k, k+1 zeroing z against y.
+			c, s, r := givens(y, z)
+			if k > lo {
+				f[k-1] = r
+			}
+			y = c*q[k] + s*f[k]
+			f[k] = -s*q[k] + c*f[k]
+			z = s * q[k+1]
+			q[k+1] *= c
+			// Left rotation on rows k, k+1 zeroing the bulge z below the diagonal.
+			c, s, r = givens(y, z)
+			q[k] = r
+			t := c*f[k] + s*q[k+1]
+			q[k+1] = -s*f[k] + c*q[k+1]
+			f[k] = t
+			if k < hi-1 {
+				y = f[k]
+				z = s * f[k+1]
+				f[k+1] *= c
+			}
+		}
+	}
+	for i := range q {
+		q[i] = math.Abs(q[i])
+	}
+	return true
+}
+
+// givens returns c, s, r with [c s; -s c] [y; z] = [r; 0], r = hypot(y, z).
+func givens(y, z float64) (c, s, r float64) {
+	if z == 0 {
+		return 1, 0, y
+	}
+	if y == 0 {
+		return 0, 1, z
+	}
+	h := y*y + z*z
+	if h > 0x1p-900 && h < 0x1p900 {
+		r = math.Sqrt(h)
+	} else {
+		r = math.Hypot(y, z)
+	}
+	inv := 1 / r
+	return y * inv, z * inv, r
+}
+
+// pythag is hypot(a, b) by a plain square root unless that over- or underflows.
+func pythag(a, b float64) float64 {
+	h := a*a + b*b
+	if h > 0x1p-900 && h < 0x1p900 {
+		return math.Sqrt(h)
+	}
+	return math.Hypot(a, b)
+}
+
+// sv2x2 returns the singular values of the upper triangular [[f, g], [0, h]] to high
+// relative accuracy (LAPACK dlas2).
+func sv2x2(f, g, h float64) (smin, smax float64) {
+	fa, ga, ha := math.Abs(f), math.Abs(g), math.Abs(h)
+	fhmn, fhmx := math.Min(fa, ha), math.Max(fa, ha)
+	switch {
+	case fhmn == 0:
+		if fhmx == 0 {
+			return 0, ga
+		}
+		mx, mn := math.Max(fhmx, ga), math.Min(fhmx, ga)
+		return 0, mx * math.Sqrt(1+(mn/mx)*(mn/mx))
+	case ga < fhmx:
+		as := 1 + fhmn/fhmx
+		at := (fhmx - fhmn) / fhmx
+		au := (ga / fhmx) * (ga / fhmx)
+		c := 2 / (math.Sqrt(as*as+au) + math.Sqrt(at*at+au))
+		return fhmn * c, fhmx / c
+	default:
+		au := fhmx / ga
+		if au == 0 {
+			return (fhmn * fhmx) / ga, ga
+		}
+		as := 1 + fhmn/fhmx
+		at := (fhmx - fhmn) / fhmx
+		c := 1 / (math.Sqrt(1+(as*au)*(as*au)) + math.Sqrt(1+(at*au)*(at*au)))
+		return 2 * (fhmn * c) * au, ga / (c + c)
+	}
+}
+
+// Phase-covariant states in real form. When every 2 x 2 block of a factor P is diagonal
+// with P[p_i][p_j] = eta_i zeta_j P[x_i][x_j] (signs eta, zeta = +-1), as for thermal inputs
+// and maps built from real beam splitters and two-mode squeezers, V = P P^T has no x-p
+// correlations and V_pp = eta V_xx eta with V_xx = P_x P_x^T. Then nu^2 are the eigenvalues
+// of V_xx V_pp = (V_xx eta)^2, so the symplectic eigenvalues are the moduli of the
+// eigenvalues of the symmetric n x n matrix K = L^T eta L, L the LQ factor of P_x: an n x n
+// problem instead of a 2n x 2n one, accurate to eps |K| (about eps nu_max) as the
+// general route.
+
+// CovariantSpectrum writes into out the symplectic eigenvalues of a phase-covariant state
+// in real form (see above) given K = L^T eta L (n x n, row-major; overwritten) and
+// det = |det L|^2 > 0, the product of the eigenvalues: nu = det for one mode, a closed form
+// for two (its small root from the product, no cancellation), Householder tridiagonal
+// reduction and implicit QL otherwise. It does not allocate.
+func CovariantSpectrum(k []float64, n int, det float64, out *Spectrum) {
+	out.N = n
+	switch n {
+	case 1:
+		out.Nu[0] = det
+		return
+	case 2:
+		a, b, c := k[0], k[1], k[3]
+		t := (a + c) / 2
+		h := (a - c) / 2
+		s := math.Sqrt(h*h + b*b)
+		big := math.Abs(t) + s // modulus of the eigenvalue of larger modulus
+		out.Nu[0], out.Nu[1] = det/big, big
+		if out.Nu[0] > out.Nu[1] {
+			out.Nu[0], out.Nu[1] = out.Nu[1], out.Nu[0]
+		}
+		return
+	}
+	var d, e [MaxModes]float64
+	symTridiagonal(k, n, d[:n], e[:n])
+	if !tridiagonalQL(d[:n], e[:n]) {
+		// Rebuild the tridiagonal matrix and use cyclic Jacobi.
+		var m Matrix
+		m.Reset(n, n)
+		symTridiagonal(k, n, d[:n], e[:n]) // k is unchanged after the first reduction's copy
+		for i := 0; i < n; i++ {
+			m.d[i*n+i] = d[i]
+			if i+1 < n {
+				m.d[i*n+i+1], m.d[(i+1)*n+i] = e[i], e[i]
+			}
+		}
+		SymmetricEigenvalues(&m, d[:n])
+	}
+	for i := 0; i < n; i++ {
+		out.Nu[i] = math.Abs(d[i])
+	}
+	insertionSort(out.Nu[:n])
+}
+
+// symTridiagonal writes the diagonal d and off-diagonal e[:n-1] (e[n-1] = 0) of a
+// Householder tridiagonal form Q^T k Q of the symmetric n x n matrix k, which it leaves
+// unchanged (it works on a copy).
+func symTridiagonal(k []float64, n int, d, e []float64) {
+	var a [MaxModes * MaxModes]float64
+	copy(a[:n*n], k[:n*n])
+	var v, w [MaxModes]float64
+	for j := 0; j < n-2; j++ {
+		m := n - j - 1
+		s := 0.0
+		for i := 0; i < m; i++ {
+			x := a[(j+1+i)*n+j]
+			v[i] = x
+			s += x * x
+		}
+		if s == 0 {
+			e[j] = 0
+			continue
+		}
+		norm := math.Sqrt(s)
+		x0 := v[0]
+		alpha := -norm
+		if x0 < 0 {
+			alpha = norm
+		}
+		v[0] = x0 - alpha
+		beta := 1 / (norm * (norm + math.Abs(x0)))
+		// b <- H b H for the trailing block b: p = beta b v, w = p - (beta/2)(p.v) v,
+		// b -= v w^T + w v^T.
+		pv := 0.0
+		for i := 0; i < m; i++ {
+			row := a[(j+1+i)*n+j+1 : (j+1+i)*n+n]
+			t := 0.0
+			for l, x := range row {
+				t += x * v[l]
+			}
+			w[i] = beta * t
+			pv += w[i] * v[i]
+		}
+		h := beta / 2 * pv
+		for i := 0; i < m; i++ {
+			w[i] -= h * v[i]
+		}
+		for i := 0; i < m; i++ {
+			row := a[(j+1+i)*n+j+1 : (j+1+i)*n+n]
+			vi, wi := v[i], w[i]
+			for l := range row {
+				row[l] -= vi*w[l] + wi*v[l]
+			}
+		}
+		e[j] = alpha
+	}
+	for i := 0; i < n; i++ {
+		d[i] = a[i*n+i]
+	}
+	if n >= 2 {
+		e[n-2] = a[(n-2)*n+n-1]
+	}
+	e[n-1] = 0
+}
+
+// tridiagonalQL overwrites d with the eigenvalues of the symmetric tridiagonal matrix with
+// diagonal d and off-diagonal e[:n-1] (e[n-1] = 0; destroyed) by implicit QL iterations with
+// Wilkinson shifts (Bowdler, Martin, Reinsch, Wilkinson, Numer. Math. 11, 293 (1968), as in
+// Numerical Recipes' tqli). It reports false if an eigenvalue needs more than 30 iterations.
+func tridiagonalQL(d, e []float64) bool {
+	const eps = 0x1p-52
+	n := len(d)
+	for l := 0; l < n; l++ {
+		for iter := 0; ; iter++ {
+			m := l
+			for ; m < n-1; m++ {
+				if math.Abs(e[m]) <= eps*(math.Abs(d[m])+math.Abs(d[m+1])) {
+					break
+				}
+			}
+			if m == l {
+				break
+			}
+			if m == l+1 {
+				// 2 x 2 block: closed form (the root of larger modulus without
+				// cancellation, the other from the determinant).
+				a, b, c := d[l], e[l], d[l+1]
+				t, h := (a+c)/2, (a-c)/2
+				s := pythag(h, b)
+				big := t + s
+				if t < 0 {
+					big = t - s
+				}
+				small := 0.0
+				if big != 0 {
+					small = (a*c - b*b) / big
+				}
+				d[l], d[l+1], e[l] = big, small, 0
+				break
+			}
+			if iter == 30 {
+				return false
+			}
+			g := (d[l+1] - d[l]) / (2 * e[l])
+			r := pythag(g, 1)
+			if g >= 0 {
+				g = d[m] - d[l] + e[l]/(g+r)
+			} else {
+				g = d[m] - d[l] + e[l]/(g-r)
+			}
+			s, c, p := 1.0, 1.0, 0.0
+			i := m - 1
+			for ; i >= l; i-- {
+				f := s * e[i]
+				b := c * e[i]
+				r = pythag(g, f)
+				e[i+1] = r
+				if r == 0 {
+					d[i+1] -= p
+					e[m] = 0
+					break
+				}
+				inv := 1 / r
+				s = f * inv
+				c = g * inv
+				g = d[i+1] - p
+				r = (d[i]-g)*s + 2*c*b
+				p = s * r
+				d[i+1] = g + p
+				g = c*r - b
+			}
+			if r == 0 && i >= l {
+				continue
+			}
+			d[l] -= p
+			e[l] = g
+			e[m] = 0
+		}
+	}
+	return true
 }

@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/rand/v2"
 
-	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/optimize"
 
 	"keyceiling/gaussian"
@@ -325,11 +324,10 @@ func (r *runner) local(t *squash.Target, x0 []float64) ([]float64, float64, opti
 	var method optimize.Method
 	switch r.s.Method {
 	case "bfgs":
-		grad := make([]float64, len(x0))
-		problem.Grad = func(dst, x []float64) {
-			fd.Gradient(grad, t.Value, x, &fd.Settings{Formula: fd.Central, Step: 1e-6})
-			copy(dst, grad)
-		}
+		// Central differences with a per-parameter step (squash.Gradient), one-sided where
+		// the objective is +Inf on one side.
+		gr := squash.NewGradient(t)
+		problem.Grad = func(dst, x []float64) { gr.Grad(dst, x) }
 		method = &optimize.BFGS{}
 	default:
 		method = &optimize.NelderMead{SimplexSize: 0.2}
