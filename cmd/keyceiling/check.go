@@ -35,6 +35,7 @@ func runCheck(args []string, stdout, _ io.Writer) error {
 	}
 	fmt.Fprintf(stdout, "checked %d records in %d files: %d passed, %d failed\n",
 		rep.Records, len(rep.Files), rep.Records-len(rep.Failures), len(rep.Failures))
+	fmt.Fprintln(stdout, results.Disclaimer)
 	if len(rep.Failures) > 0 {
 		return fmt.Errorf("%d of %d records failed the check", len(rep.Failures), rep.Records)
 	}

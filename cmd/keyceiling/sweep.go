@@ -297,8 +297,10 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 		}
 		if !quiet {
 			fmt.Fprintf(stderr, "keyceiling sweep: wrote %s\n", strings.Join(files, ", "))
-			fmt.Fprintln(stderr, "keyceiling sweep: "+results.Disclaimer)
 		}
+	}
+	if !quiet {
+		fmt.Fprintln(stderr, "keyceiling sweep: "+results.Disclaimer)
 	}
 	return nil
 }
