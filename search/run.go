@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"strings"
 
 	"gonum.org/v1/gonum/optimize"
 
@@ -114,14 +115,14 @@ func (r *runner) warmStart(name string) []float64 {
 func (r *runner) run() (Result, error) {
 	finite := !math.IsInf(r.p.Energy, 1)
 	var stages []candidate
-	var best *candidate
+	best := -1 // index of the stage with the smallest search value
 	consider := func(c candidate, err error) error {
 		if err != nil {
 			return err
 		}
 		stages = append(stages, c)
-		if best == nil || c.value < best.value {
-			best = &stages[len(stages)-1]
+		if best < 0 || c.value < stages[best].value {
+			best = len(stages) - 1
 		}
 		return nil
 	}
@@ -141,7 +142,7 @@ func (r *runner) run() (Result, error) {
 		if c, err = r.fixedFamily(squash.TMSSplit{}); err == nil {
 			_ = consider(c, nil)
 			if err = consider(r.lifted(c, "covariant")); err == nil && finite {
-				err = consider(r.lifted(*best, "general"))
+				err = consider(r.lifted(stages[best], "general"))
 			}
 		}
 	}
@@ -152,21 +153,48 @@ func (r *runner) run() (Result, error) {
 	if err != nil {
 		return res, err
 	}
-	if best == nil {
+	if len(stages) == 0 {
 		return res, errors.New("no family produced a finite bound")
 	}
-	res.Family = best.fam.Name()
-	res.Params = append([]float64(nil), best.params...)
-	res.Dilation = squash.BuildDilation(best.fam, best.params)
-	res.PhaseCovariant = best.fam.PhaseCovariant()
-	res.Status = Converged
-	res.StopReason = fmt.Sprintf("%s: %s", best.stage.Family, best.stage.Status)
-	if best.status.Early() {
-		res.Status = StoppedEarly
+	// Certify every stage's optimum and report the smallest certified bound. The search
+	// values are not comparable to the last digit: a map that is not phase covariant is
+	// certified at its supremum over squeezed inputs, which may exceed the value its search
+	// saw by up to CutTolerance, so a near tie in search values can reverse.
+	var chosen *Result
+	var notes []string
+	var firstErr error
+	for _, c := range stages {
+		cand := res
+		cand.Family = c.fam.Name()
+		cand.Params = append([]float64(nil), c.params...)
+		cand.Dilation = squash.BuildDilation(c.fam, c.params)
+		cand.PhaseCovariant = c.fam.PhaseCovariant()
+		cand.Status = Converged
+		if c.status.Early() {
+			cand.Status = StoppedEarly
+		}
+		if err := r.certify(&cand); err != nil {
+			notes = append(notes, fmt.Sprintf("%s not certified: %v", c.stage.Family, err))
+			if firstErr == nil {
+				firstErr = fmt.Errorf("%s: %w", c.stage.Family, err)
+			}
+			continue
+		}
+		cand.StopReason = fmt.Sprintf("%s: %s", c.stage.Family, c.stage.Status)
+		if chosen == nil || cand.Bound < chosen.Bound {
+			chosen = &cand
+		}
 	}
-	err = r.certify(&res)
-	res.Evaluations = r.evals
-	return res, err
+	if chosen == nil {
+		res.Evaluations = r.evals
+		return res, firstErr
+	}
+	out := *chosen
+	if len(notes) > 0 {
+		out.StopReason += "; " + strings.Join(notes, "; ")
+	}
+	out.Evaluations = r.evals
+	return out, nil
 }
 
 // fixedFamily runs multi-start local searches of a family from its known starts, the warm
