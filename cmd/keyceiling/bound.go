@@ -9,6 +9,7 @@ import (
 
 	"keyceiling/results"
 	"keyceiling/search"
+	"keyceiling/squash"
 )
 
 func runBound(args []string, stdout, _ io.Writer) error {
@@ -36,6 +37,9 @@ func runBound(args []string, stdout, _ io.Writer) error {
 	st, err := sf.settings()
 	if err != nil {
 		return err
+	}
+	if math.IsInf(p.Energy, 1) && st.Family == "general" {
+		return badInput("--family general needs a finite --energy: the supremum over squeezed inputs is computed only at finite energy")
 	}
 	start := time.Now()
 	res, err := search.Run(p, st, search.RandFor(sf.seed, p), nil)
@@ -73,6 +77,9 @@ func printRecord(w io.Writer, r results.Record) {
 		fmt.Fprintf(w, "  %-16s %s %.6f  %s\n", ref.Name, kind, ref.Value, ref.Source)
 	}
 	fmt.Fprintf(w, "tightest     %s; gap to the lower bound %.6f\n", r.Tightest, r.Gap)
+	if squash.EntanglementBreaking(m) {
+		fmt.Fprintln(w, "note         the channel is entanglement breaking: its secret-key and quantum capacities are 0")
+	}
 	if r.BeatsREE {
 		fmt.Fprintln(w, "note         this squashing bound is below the relative-entropy (PLOB) bound here")
 	}

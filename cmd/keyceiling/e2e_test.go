@@ -416,6 +416,14 @@ func TestE2EBadInput(t *testing.T) {
 		{"check no argument", nil, []string{"check"}, "want one record file"},
 		{"merge missing folder", nil, []string{"merge", filepath.Join(dir, "nope")}, "no such file"},
 		{"merge folder without plan", nil, []string{"merge", dir}, "has no plan.txt"},
+		{"bound general at inf", nil, []string{"bound", "--eta", "0.5", "--family", "general", "--energy", "inf"}, "needs a finite --energy"},
+		{"bound eta missing", nil, []string{"bound", "--energy", "1"}, "needs --eta or --loss-db"},
+		{"bound loss and eta", nil, []string{"bound", "--eta", "0.5", "--loss-db", "3"}, "not both"},
+		{"bound gain too small", nil, []string{"bound", "--channel", "amplifier", "--gain", "0.5"}, "gain = 0.5 is out of range"},
+		{"bound xi nan", nil, []string{"bound", "--channel", "additive", "--xi", "NaN"}, "not a finite number"},
+		{"bound bad format", nil, []string{"bound", "--eta", "0.5", "--format", "yaml"}, "--format"},
+		{"bound bad method", nil, []string{"bound", "--eta", "0.5", "--method", "annealing"}, "unknown method"},
+		{"bound negative noise", nil, []string{"bound", "--eta", "0.5", "--noise", "-0.1"}, "noise = -0.1 is out of range"},
 	}
 	for _, c := range cases {
 		before := e2eTree(t, dir)
