@@ -184,7 +184,7 @@ func NewRecord(res search.Result, s search.Settings, seed uint64, seconds float6
 		Format: FormatVersion, Tool: "keyceiling", Version: Version, Key: p.Key(),
 		Channel: ChannelOf(p.Model), Energy: Num(p.Energy), Bound: res.Bound,
 		Lower: squash.BestLower(refs), Covariant: res.PhaseCovariant, Family: res.Family,
-		Params: res.Params, Seed: seed, Settings: s, Evals: res.Evaluations,
+		Params: res.Params, Seed: seed, Settings: s.Effective(), Evals: res.Evaluations,
 		Status: res.Status.String(), StopReason: res.StopReason, Stages: res.Stages,
 		Recheck: res.Recheck, Seconds: seconds, SupMethod: res.Sup.Method,
 		Input: InputRecord{N: Num(res.Sup.Input.N), R: res.Sup.Input.R, Phi: res.Sup.Input.Phi},

@@ -204,7 +204,7 @@ func (r *runner) fixedFamily(fam squash.Family) (candidate, error) {
 	if w := r.warmStart(fam.Name()); len(w) == fam.NumParams() {
 		starts = append([][]float64{w}, starts...)
 	}
-	for i := 0; i < r.s.RandomStarts; i++ {
+	for i := 0; i < max(r.s.RandomStarts, 0); i++ {
 		x := make([]float64, fam.NumParams())
 		for j := range x {
 			x[j] = (r.rng.Float64()*2 - 1) * 2
@@ -251,7 +251,7 @@ func (r *runner) lifted(from candidate, kind string) (candidate, error) {
 	if w := r.warmStart(fam.Name()); len(w) == fam.NumParams() {
 		starts = append(starts, w)
 	}
-	for i := 0; i < r.s.RandomStarts/2; i++ {
+	for i := 0; i < max(r.s.RandomStarts, 0)/2; i++ {
 		x := append([]float64(nil), x0...)
 		for j := 0; j < len(x)-fam.Ancillas(); j++ {
 			x[j] += 0.3 * r.rng.NormFloat64()

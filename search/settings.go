@@ -11,23 +11,24 @@ type Settings struct {
 	// "covariant" or "general". "auto" runs tms-split, then the covariant family lifted from
 	// its optimum, then (at finite energy) the general family lifted from the best so far, and
 	// reports the best map with the family that produced it.
-	Family string
+	Family string `json:"family"`
 	// Ancillas and Keep size the covariant and general families (zero: 3 ancillas, 2 kept
 	// modes for "covariant" and for the covariant stage of "auto"; 2 and 2 for "general").
-	Ancillas, Keep int
+	Ancillas int `json:"ancillas"`
+	Keep     int `json:"keep"`
 	// RandomStarts is how many seeded random starts are added to the family's known starts
 	// (zero: DefaultRandomStarts; negative: none).
-	RandomStarts int
+	RandomStarts int `json:"random_starts"`
 	// MaxEvaluations bounds the objective evaluations of each local run (zero: 6000).
-	MaxEvaluations int
+	MaxEvaluations int `json:"max_evaluations"`
 	// Tolerance is the absolute improvement in bits below which a local run counts as
 	// converged after StallIterations iterations without it (zero: 1e-11).
-	Tolerance float64
+	Tolerance float64 `json:"tolerance"`
 	// Method is the local optimiser: "nelder-mead" (default) or "bfgs" (with central
 	// finite-difference gradients).
-	Method string
+	Method string `json:"method"`
 	// Rounds bounds the cutting-plane rounds for maps that are not phase covariant (zero: 3).
-	Rounds int
+	Rounds int `json:"rounds"`
 }
 
 // DefaultRandomStarts is the number of random starts used when Settings.RandomStarts is 0.
@@ -37,15 +38,17 @@ const DefaultRandomStarts = 4
 // local run as converged.
 const StallIterations = 60
 
+// Effective returns the settings with every zero value replaced by its default (Ancillas
+// and Keep stay 0, which means each stage's own default). It is idempotent, and it is what
+// result records store, so that a record states the settings that made it.
+func (s Settings) Effective() Settings { return s.withDefaults() }
+
 func (s Settings) withDefaults() Settings {
 	if s.Family == "" {
 		s.Family = "auto"
 	}
 	if s.RandomStarts == 0 {
 		s.RandomStarts = DefaultRandomStarts
-	}
-	if s.RandomStarts < 0 {
-		s.RandomStarts = 0
 	}
 	if s.MaxEvaluations == 0 {
 		s.MaxEvaluations = 6000
