@@ -16,7 +16,7 @@
 #      (progress goes to stderr, so `eval "$(scripts/slurm-up.sh DIR)"` works too).
 #
 # STATE_DIR defaults to /tmp/keyceiling-slurm. Stop everything with scripts/slurm-down.sh
-# STATE_DIR. See /work/shared/notes/slurm-single-node.md for the recipe this follows.
+# STATE_DIR. It follows the project's shared notes on a one-node Slurm cluster (Debian 12, Slurm 22.05).
 set -euo pipefail
 
 say() { printf 'slurm-up: %s\n' "$*" >&2; }
