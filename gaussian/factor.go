@@ -534,6 +534,7 @@ func givens(y, z float64) (c, s, r float64) {
 }
 
 // pythag is hypot(a, b) by a plain square root unless that over- or underflows.
+// (tridiagonalQL's inner loop spells it out, as the compiler does not inline it.)
 func pythag(a, b float64) float64 {
 	h := a*a + b*b
 	if h > 0x1p-900 && h < 0x1p900 {
@@ -604,13 +605,14 @@ func CovariantSpectrum(k []float64, n int, det float64, out *Spectrum) {
 		}
 		return
 	}
-	var d, e [MaxModes]float64
+	var d, e, d0, e0 [MaxModes]float64
 	symTridiagonal(k, n, d[:n], e[:n])
+	d0, e0 = d, e
 	if !tridiagonalQL(d[:n], e[:n]) {
 		// Rebuild the tridiagonal matrix and use cyclic Jacobi.
 		var m Matrix
 		m.Reset(n, n)
-		symTridiagonal(k, n, d[:n], e[:n]) // k is unchanged after the first reduction's copy
+		d, e = d0, e0
 		for i := 0; i < n; i++ {
 			m.d[i*n+i] = d[i]
 			if i+1 < n {
@@ -626,11 +628,18 @@ func CovariantSpectrum(k []float64, n int, det float64, out *Spectrum) {
 }
 
 // symTridiagonal writes the diagonal d and off-diagonal e[:n-1] (e[n-1] = 0) of a
-// Householder tridiagonal form Q^T k Q of the symmetric n x n matrix k, which it leaves
-// unchanged (it works on a copy).
+// Householder tridiagonal form Q^T k Q of the symmetric n x n matrix k, which it overwrites.
 func symTridiagonal(k []float64, n int, d, e []float64) {
-	var a [MaxModes * MaxModes]float64
-	copy(a[:n*n], k[:n*n])
+	if n == 3 {
+		symTridiagonal3(k, d, e)
+		return
+	}
+	symTridiagonalGeneric(k, n, d, e)
+}
+
+// symTridiagonalGeneric is symTridiagonal for any n.
+func symTridiagonalGeneric(k []float64, n int, d, e []float64) {
+	a := k[:n*n]
 	var v, w [MaxModes]float64
 	for j := 0; j < n-2; j++ {
 		m := n - j - 1
@@ -691,74 +700,106 @@ func symTridiagonal(k []float64, n int, d, e []float64) {
 // Wilkinson shifts (Bowdler, Martin, Reinsch, Wilkinson, Numer. Math. 11, 293 (1968), as in
 // Numerical Recipes' tqli). It reports false if an eigenvalue needs more than 30 iterations.
 func tridiagonalQL(d, e []float64) bool {
+	var st qlProgress
+	for !st.done {
+		st.step(d, e)
+	}
+	return !st.failed
+}
+
+// qlProgress is where tridiagonalQL stands on one matrix: the eigenvalues d[:l] are final,
+// and iter QL sweeps have been spent on the current l. step advances it by one unit of work,
+// so that independent problems can be advanced in turn (CovBatch).
+type qlProgress struct {
+	l, iter      int
+	done, failed bool
+}
+
+// step does tridiagonalQL's next unit of work on (d, e): deflations up to the next 2 x 2
+// closed form (done in the step) or QL sweep; it sets done when all eigenvalues are final,
+// and failed (with done) when an eigenvalue needs more than 30 sweeps.
+func (st *qlProgress) step(d, e []float64) {
 	const eps = 0x1p-52
 	n := len(d)
-	for l := 0; l < n; l++ {
-		for iter := 0; ; iter++ {
-			m := l
-			for ; m < n-1; m++ {
-				if math.Abs(e[m]) <= eps*(math.Abs(d[m])+math.Abs(d[m+1])) {
-					break
-				}
-			}
-			if m == l {
+	e = e[:n]
+	for ; st.l < n; st.l, st.iter = st.l+1, 0 {
+		l := st.l
+		m := l
+		for ; m < n-1; m++ {
+			if math.Abs(e[m]) <= eps*(math.Abs(d[m])+math.Abs(d[m+1])) {
 				break
 			}
-			if m == l+1 {
-				// 2 x 2 block: closed form (the root of larger modulus without
-				// cancellation, the other from the determinant).
-				a, b, c := d[l], e[l], d[l+1]
-				t, h := (a+c)/2, (a-c)/2
-				s := pythag(h, b)
-				big := t + s
-				if t < 0 {
-					big = t - s
-				}
-				small := 0.0
-				if big != 0 {
-					small = (a*c - b*b) / big
-				}
-				d[l], d[l+1], e[l] = big, small, 0
-				break
-			}
-			if iter == 30 {
-				return false
-			}
-			g := (d[l+1] - d[l]) / (2 * e[l])
-			r := pythag(g, 1)
-			if g >= 0 {
-				g = d[m] - d[l] + e[l]/(g+r)
-			} else {
-				g = d[m] - d[l] + e[l]/(g-r)
-			}
-			s, c, p := 1.0, 1.0, 0.0
-			i := m - 1
-			for ; i >= l; i-- {
-				f := s * e[i]
-				b := c * e[i]
-				r = pythag(g, f)
-				e[i+1] = r
-				if r == 0 {
-					d[i+1] -= p
-					e[m] = 0
-					break
-				}
-				inv := 1 / r
-				s = f * inv
-				c = g * inv
-				g = d[i+1] - p
-				r = (d[i]-g)*s + 2*c*b
-				p = s * r
-				d[i+1] = g + p
-				g = c*r - b
-			}
-			if r == 0 && i >= l {
-				continue
-			}
-			d[l] -= p
-			e[l] = g
-			e[m] = 0
 		}
+		if m == l {
+			continue
+		}
+		if m == l+1 {
+			// 2 x 2 block: closed form (the root of larger modulus without
+			// cancellation, the other from the determinant).
+			a, b, c := d[l], e[l], d[l+1]
+			t, h := (a+c)/2, (a-c)/2
+			s := pythag(h, b)
+			big := t + s
+			if t < 0 {
+				big = t - s
+			}
+			small := 0.0
+			if big != 0 {
+				small = (a*c - b*b) / big
+			}
+			d[l], d[l+1], e[l] = big, small, 0
+			st.l, st.iter = l+1, 0
+			return
+		}
+		if st.iter == 30 {
+			st.done, st.failed = true, true
+			return
+		}
+		qlSweep(d, e, l, m)
+		st.iter++
+		return
 	}
-	return true
+	st.done = true
+}
+
+// qlSweep is one implicit QL sweep with Wilkinson shift on rows l..m of the tridiagonal
+// matrix (d, e) (Numerical Recipes' tqli).
+func qlSweep(d, e []float64, l, m int) {
+	g := (d[l+1] - d[l]) / (2 * e[l])
+	// |g| <= |d| / (2 eps (|d_l| + |d_l+1|)) < 2^51 as e[l] was not negligible: g^2 + 1
+	// neither over- nor underflows.
+	r := math.Sqrt(g*g + 1)
+	if g >= 0 {
+		g = d[m] - d[l] + e[l]/(g+r)
+	} else {
+		g = d[m] - d[l] + e[l]/(g-r)
+	}
+	s, c, p := 1.0, 1.0, 0.0
+	i := m - 1
+	for ; i >= l; i-- {
+		f := s * e[i]
+		b := c * e[i]
+		if h := g*g + f*f; h > 0x1p-900 && h < 0x1p900 {
+			r = math.Sqrt(h)
+		} else {
+			r = math.Hypot(g, f)
+		}
+		e[i+1] = r
+		if r == 0 {
+			// Underflow: split here and sweep again.
+			d[i+1] -= p
+			e[m] = 0
+			return
+		}
+		s = f / r
+		c = g / r
+		g = d[i+1] - p
+		r = (d[i]-g)*s + 2*c*b
+		p = s * r
+		d[i+1] = g + p
+		g = c*r - b
+	}
+	d[l] -= p
+	e[l] = g
+	e[m] = 0
 }

@@ -71,38 +71,50 @@ type MapWork struct {
 
 // Map writes the squashing map (X, Y) of f at params into ch. It does not allocate.
 func (w *MapWork) Map(f Family, params []float64, ch *gaussian.Channel) {
+	switch f.(type) {
+	case TMSSplit:
+		tmsSplitChannel(params, ch)
+		return
+	case Split:
+		splitChannel(params, ch)
+		return
+	}
 	k := f.Ancillas()
 	f.Build(params, &w.s, w.anc[:k])
 	channelOf(&w.s, w.anc[:k], f.Kept(), ch)
 }
 
 // channelOf computes X = S[kept, env] and Y = S[kept, anc] diag((2n_j+1) I) S[kept, anc]^T.
+// It reads only the kept rows of S.
 func channelOf(s *gaussian.Matrix, photons []float64, keep int, ch *gaussian.Channel) {
 	dim, _ := s.Dims()
+	sd := s.Data()
 	k := len(photons)
-	env2 := 2 * gaussian.EnvModes
+	const env2 = 2 * gaussian.EnvModes
 	m2 := 2 * keep
 	ch.In, ch.Out = gaussian.EnvModes, keep
 	ch.X.Reset(m2, env2)
 	ch.Y.Reset(m2, m2)
+	xd, yd := ch.X.Data(), ch.Y.Data()
 	for i := 0; i < m2; i++ {
-		for j := 0; j < env2; j++ {
-			ch.X.Set(i, j, s.At(i, j))
-		}
+		copy(xd[i*env2:(i+1)*env2], sd[i*dim:i*dim+env2])
+	}
+	var w [gaussian.MaxModes]float64
+	for a := 0; a < k; a++ {
+		w[a] = 2*photons[a] + 1
 	}
 	for i := 0; i < m2; i++ {
+		si := sd[i*dim+env2 : i*dim+env2+2*k]
 		for j := i; j < m2; j++ {
+			sj := sd[j*dim+env2 : j*dim+env2+2*k]
 			v := 0.0
 			for a := 0; a < k; a++ {
-				w := 2*photons[a] + 1
-				c := env2 + 2*a
-				v += w * (s.At(i, c)*s.At(j, c) + s.At(i, c+1)*s.At(j, c+1))
+				v += w[a] * (si[2*a]*sj[2*a] + si[2*a+1]*sj[2*a+1])
 			}
-			ch.Y.Set(i, j, v)
-			ch.Y.Set(j, i, v)
+			yd[i*m2+j] = v
+			yd[j*m2+i] = v
 		}
 	}
-	_ = dim
 }
 
 // Split is the one-parameter family of Takeoka, Guha, Wilde (Nat. Commun. 5, 5235 (2014)):
@@ -117,7 +129,7 @@ func (Split) Kept() int            { return 1 }
 func (Split) PhaseCovariant() bool { return true }
 func (Split) Starts() [][]float64  { return [][]float64{{math.Pi / 4}} }
 func (Split) Build(p []float64, s *gaussian.Matrix, anc []float64) {
-	*s = gaussian.Identity(6)
+	setIdentity(s, 6)
 	lmulBeamSplitter(s.Data(), 6, 0, 2, transmissivity(p[0]))
 	anc[0] = 0
 }
@@ -143,7 +155,7 @@ func (TMSSplit) Starts() [][]float64 {
 	return starts
 }
 func (TMSSplit) Build(p []float64, s *gaussian.Matrix, anc []float64) {
-	*s = gaussian.Identity(8)
+	setIdentity(s, 8)
 	d := s.Data()
 	lmulTwoModeSqueezing(d, 8, 0, 1, boundedSqueezing(p[0]))
 	lmulBeamSplitter(d, 8, 0, 2, transmissivity(p[1]))
@@ -215,7 +227,7 @@ func (c *Covariant) Build(p []float64, s *gaussian.Matrix, anc []float64) {
 	if c.Base != nil {
 		*s = *c.Base
 	} else {
-		*s = gaussian.Identity(dim)
+		setIdentity(s, dim)
 	}
 	d := s.Data()
 	p = lmulPassive(d, dim, c.g1, p)
@@ -270,7 +282,7 @@ func (g *General) Build(p []float64, s *gaussian.Matrix, anc []float64) {
 	if g.Base != nil {
 		*s = *g.Base
 	} else {
-		*s = gaussian.Identity(dim)
+		setIdentity(s, dim)
 	}
 	d := s.Data()
 	p = lmulPassive(d, dim, g.all, p)

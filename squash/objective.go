@@ -23,6 +23,14 @@ type Evaluator struct {
 	p                  [gaussian.MaxDim * gaussian.MaxDim]float64
 	mE, mAE, mBE, mABE [gaussian.MaxDim * gaussian.MaxDim]float64
 	px                 [gaussian.MaxModes * gaussian.MaxModes]float64
+	// jointDiag: every 2 x 2 block of jointF is diagonal (thermal inputs; see
+	// halfCovariantDirect).
+	jointDiag bool
+	// Scratch of halfCovariantDirect: x-x and p-p entries of the factor, by modes.
+	dxx, dpp [gaussian.MaxModes][gaussian.MaxDim / 2]float64
+	// Scratch of covTail: the four spectra and their batch.
+	sp    [4]gaussian.Spectrum
+	batch gaussian.CovBatch
 }
 
 // NewEvaluator prepares the joint state of the model's dilation for the input in.
@@ -40,6 +48,7 @@ func NewEvaluator(model gaussian.Model, in Input) (*Evaluator, error) {
 	if !e.jointF.IsFinite() {
 		return nil, fmt.Errorf("joint state of %v is not finite", model)
 	}
+	e.jointDiag = blocksDiagonal(e.jointF.Data(), 8, 8)
 	return e, nil
 }
 
@@ -61,7 +70,8 @@ const YAllowance = 1e-12
 // The matrices R^T Omega R of the nested subsystems are built by adding one mode's rank-2
 // term at a time (gaussian.SkewFactorSpectrum takes it from there). Factors in real
 // phase-covariant form (thermal inputs with Split or TMSSplit maps) take the n x n route of
-// halfCovariant instead.
+// halfCovariant instead; when the joint factor, X and G all have diagonal 2 x 2 blocks,
+// halfCovariantDirect takes it without forming the full factor (same values and errors).
 func (e *Evaluator) Half(ch *gaussian.Channel) (float64, error) {
 	if ch.In != gaussian.EnvModes {
 		return math.NaN(), fmt.Errorf("squashing map has %d input modes, want %d", ch.In, gaussian.EnvModes)
@@ -72,6 +82,9 @@ func (e *Evaluator) Half(ch *gaussian.Channel) (float64, error) {
 	}
 	if err := sqrtFactorY(&ch.Y, &e.g); err != nil {
 		return math.NaN(), fmt.Errorf("map's Y: %w", err)
+	}
+	if v, ok, err := e.halfCovariantDirect(ch); ok {
+		return v, err
 	}
 	// Factor of (E', A', B): rows of E' are [X F_env, G]; rows of A' and B unchanged.
 	const jc = 8 // columns of the joint factor
@@ -203,7 +216,7 @@ func subEntropy(m []float64, dm int, det, mx float64) (float64, error) {
 	}
 	var sp gaussian.Spectrum
 	gaussian.SkewFactorSpectrum(m, dm, det, &sp)
-	return sp.Entropy(gaussian.PurityTolerance * math.Max(1, mx*mx))
+	return spectrumEntropy(&sp, gaussian.PurityTolerance*math.Max(1, mx*mx))
 }
 
 // halfCovariant is Half's route for factors in real phase-covariant form (see
@@ -216,8 +229,6 @@ func (e *Evaluator) halfCovariant(nm, nc, m int, mxE, mxA, mxB float64) (float64
 	const eps = 0x1p-52
 	cols := 2 * nc
 	p := e.p[:2*nm*cols]
-	var eta [gaussian.MaxModes]int8
-	var zeta [gaussian.MaxDim / 2]int8
 	var sgn [gaussian.MaxModes][gaussian.MaxDim / 2]int8 // sign of P[p_i][p_j] P[x_i][x_j], 0 if both vanish
 	for i := 0; i < nm; i++ {
 		x, q := p[2*i*cols:(2*i+1)*cols], p[(2*i+1)*cols:(2*i+2)*cols]
@@ -245,31 +256,49 @@ func (e *Evaluator) halfCovariant(nm, nc, m int, mxE, mxA, mxB float64) (float64
 			}
 		}
 	}
-	// Signs: propagate eta and zeta over the nonzero entries, seeding each connected
-	// component with +1, then check every entry.
-	for {
-		seed := -1
-		for i := 0; i < nm; i++ {
-			if eta[i] == 0 {
-				seed = i
-				break
-			}
+	eta, ok := covSigns(nm, nc, &sgn)
+	if !ok {
+		return 0, false, nil
+	}
+	px := e.px[:nm*nc]
+	for i := 0; i < nm; i++ {
+		for j := 0; j < nc; j++ {
+			px[i*nc+j] = p[2*i*cols+2*j]
 		}
-		if seed < 0 {
-			break
+	}
+	v, err := e.covTail(nm, nc, m, &eta, mxE, mxA, mxB)
+	return v, true, err
+}
+
+// covSigns finds signs eta (rows) and zeta (columns) with sgn[i][j] = eta_i zeta_j wherever
+// sgn[i][j] != 0, or reports false. Each connected component of the nonzero entries is
+// seeded with eta = +1 at its first row (rows without nonzero entries get +1), and the
+// signs spread along the entries; the result does not depend on the order of spreading.
+func covSigns(nm, nc int, sgn *[gaussian.MaxModes][gaussian.MaxDim / 2]int8) (eta [gaussian.MaxModes]int8, ok bool) {
+	var zeta [gaussian.MaxDim / 2]int8
+	var stack [gaussian.MaxModes]int
+	for seed := 0; seed < nm; seed++ {
+		if eta[seed] != 0 {
+			continue
 		}
 		eta[seed] = 1
-		for changed := true; changed; {
-			changed = false
-			for i := 0; i < nm; i++ {
-				for j := 0; j < nc; j++ {
-					s := sgn[i][j]
-					switch {
-					case s == 0:
-					case eta[i] != 0 && zeta[j] == 0:
-						zeta[j], changed = s*eta[i], true
-					case eta[i] == 0 && zeta[j] != 0:
-						eta[i], changed = s*zeta[j], true
+		stack[0] = seed
+		top := 1
+		for top > 0 {
+			top--
+			i := stack[top]
+			for j := 0; j < nc; j++ {
+				s := sgn[i][j]
+				if s == 0 || zeta[j] != 0 {
+					continue
+				}
+				zj := s * eta[i]
+				zeta[j] = zj
+				for k := 0; k < nm; k++ {
+					if t := sgn[k][j]; t != 0 && eta[k] == 0 {
+						eta[k] = t * zj
+						stack[top] = k
+						top++
 					}
 				}
 			}
@@ -278,17 +307,18 @@ func (e *Evaluator) halfCovariant(nm, nc, m int, mxE, mxA, mxB float64) (float64
 	for i := 0; i < nm; i++ {
 		for j := 0; j < nc; j++ {
 			if s := sgn[i][j]; s != 0 && s != eta[i]*zeta[j] {
-				return 0, false, nil
+				return eta, false
 			}
 		}
 	}
-	// P_x (nm x nc) and its LQ factor L; rows E' (m), A', B.
+	return eta, true
+}
+
+// covTail finishes halfCovariant from P_x in e.px (nm x nc, row stride nc) and the row signs
+// eta.
+func (e *Evaluator) covTail(nm, nc, m int, eta *[gaussian.MaxModes]int8, mxE, mxA, mxB float64) (float64, error) {
 	px := e.px[:nm*nc]
-	for i := 0; i < nm; i++ {
-		for j := 0; j < nc; j++ {
-			px[i*nc+j] = p[2*i*cols+2*j]
-		}
-	}
+	// LQ factor L of P_x; rows E' (m), A', B.
 	gaussian.LQ(px, nm, nc)
 	l := func(i, j int) float64 { return px[i*nc+j] }
 	detE := 1.0
@@ -324,23 +354,32 @@ func (e *Evaluator) halfCovariant(nm, nc, m int, mxE, mxA, mxB float64) (float64
 	}
 	addCovTerm(kABE, m2, float64(eta[m+1]), px[(m+1)*nc:(m+1)*nc+m2])
 
-	sAE, err := covEntropy(kAE, m1, detE*detA, math.Max(mxE, mxA))
-	if err != nil {
-		return math.NaN(), true, err
+	// The four spectra at once (their QL iterations interleave), then the entropies in the
+	// order A'E', BE', E', A'BE' (the first failure is reported).
+	ps := [4]gaussian.CovProblem{
+		{K: kAE, N: m1, Det: detE * detA, Out: &e.sp[0]},
+		{K: kBE, N: m1, Det: detBE, Out: &e.sp[1]},
+		{K: kE, N: m, Det: detE, Out: &e.sp[2]},
+		{K: kABE, N: m2, Det: detE * detA * detB, Out: &e.sp[3]},
 	}
-	sBE, err := covEntropy(kBE, m1, detBE, math.Max(mxE, mxB))
+	e.batch.Spectra(ps[:])
+	sAE, err := covSpectrumEntropy(&e.sp[0], detE*detA, max(mxE, mxA))
 	if err != nil {
-		return math.NaN(), true, err
+		return math.NaN(), err
 	}
-	sE, err := covEntropy(kE, m, detE, mxE)
+	sBE, err := covSpectrumEntropy(&e.sp[1], detBE, max(mxE, mxB))
 	if err != nil {
-		return math.NaN(), true, err
+		return math.NaN(), err
 	}
-	sABE, err := covEntropy(kABE, m2, detE*detA*detB, math.Max(mxE, math.Max(mxA, mxB)))
+	sE, err := covSpectrumEntropy(&e.sp[2], detE, mxE)
 	if err != nil {
-		return math.NaN(), true, err
+		return math.NaN(), err
 	}
-	return 0.5 * (sAE + sBE - sE - sABE), true, nil
+	sABE, err := covSpectrumEntropy(&e.sp[3], detE*detA*detB, max(mxE, mxA, mxB))
+	if err != nil {
+		return math.NaN(), err
+	}
+	return 0.5 * (sAE + sBE - sE - sABE), nil
 }
 
 // addCovTerm adds s r r^T (r = the first len(r) entries of a row of L) to the symmetric
@@ -355,15 +394,13 @@ func addCovTerm(k []float64, dk int, s float64, r []float64) {
 	}
 }
 
-// covEntropy is subEntropy for the phase-covariant route: k = L^T eta L (dk x dk,
-// overwritten), det = |det L|^2.
-func covEntropy(k []float64, dk int, det, mx float64) (float64, error) {
+// covSpectrumEntropy is subEntropy for the phase-covariant route, given the spectrum sp of
+// K = L^T eta L (gaussian.CovariantSpectrum) and det = |det L|^2.
+func covSpectrumEntropy(sp *gaussian.Spectrum, det, mx float64) (float64, error) {
 	if !(det > 0) {
 		return 0, fmt.Errorf("gaussian: singular covariance (det R = %g): %w", det, gaussian.ErrUnphysical)
 	}
-	var sp gaussian.Spectrum
-	gaussian.CovariantSpectrum(k, dk, det, &sp)
-	return sp.Entropy(gaussian.PurityTolerance * math.Max(1, mx*mx))
+	return spectrumEntropy(sp, gaussian.PurityTolerance*math.Max(1, mx*mx))
 }
 
 // sqrtFactorY is gaussian.SymmetricSqrtFactor(y, g, YAllowance max(1, max|Y_ij|)) with a
