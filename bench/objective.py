@@ -19,9 +19,11 @@ thermal-loss channel, with the conventions of gaussian/doc.go and the physics no
 
 It works on covariance matrices (not the Go code's square-root factors), which is accurate
 to ~1e-13 bits at the moderate energies compared here. The four entropies are computed in
-ONE batched np.linalg.eigvals call: each subsystem is padded with vacuum modes to four
-modes (a vacuum mode has nu = 1 and contributes g(0) = 0) and the four 8x8 matrices
-Omega V_sub are stacked; the symplectic eigenvalues are the moduli of their eigenvalues.
+one batch: each subsystem is padded with vacuum modes to four modes (a vacuum mode has
+nu = 1 and contributes g(0) = 0), the four 8x8 matrices are stacked, a batched Cholesky
+factorisation V = L L^T gives the antisymmetric L^T Omega L, and one batched
+np.linalg.eigvalsh of the Hermitian i L^T Omega L returns +-nu. (This was measured about
+1.3x faster than np.linalg.eigvals of Omega V, so the comparison uses it.)
 
 Usage: objective.py --eta 0.9 --nb 1 --ns 1 POINTS_FILE [--min-seconds 2]
 POINTS_FILE has one parameter vector (5 numbers) per line. Prints one value per line
@@ -130,8 +132,9 @@ class Objective:
         self.y[4:, 4:] = y
         self.w[:8, :8] = self.t @ self.vj @ self.t.T + self.y
         subs = self.w[self.rows, self.cols]  # (4, 8, 8): A'E', BE', E', A'BE' padded
-        ev = np.linalg.eigvals(self.omega4 @ subs)  # +-i nu, shape (4, 8)
-        nu = np.sort(np.abs(ev), axis=1)[:, ::2]  # each symplectic eigenvalue once
+        chol = np.linalg.cholesky(subs)
+        skew = np.swapaxes(chol, 1, 2) @ self.omega4 @ chol  # similar to Omega V
+        nu = np.linalg.eigvalsh(1j * skew)[:, 4:]  # ascending: -nu (4), then +nu (4)
         x = np.maximum((nu - 1) / 2, 0)
         # g(x) = (log1p(x) + x log1p(1/x)) / ln 2, with g(0) = 0
         with np.errstate(divide="ignore", invalid="ignore"):
