@@ -268,50 +268,8 @@ func SymmetricSqrtFactor(s *Matrix, g *Matrix, allowance float64) error {
 		g.d[i*n+i] = 1
 	}
 	// Jacobi with accumulated rotations: a -> Q^T a Q, g -> g Q.
+	jacobi(&a, g)
 	ad, gd := &a.d, &g.d
-	for sweep := 0; sweep < 60; sweep++ {
-		off, diag := 0.0, 0.0
-		for i := 0; i < n; i++ {
-			diag += ad[i*n+i] * ad[i*n+i]
-			for j := i + 1; j < n; j++ {
-				off += ad[i*n+j] * ad[i*n+j]
-			}
-		}
-		if off == 0 || off <= 1e-34*diag {
-			break
-		}
-		for p := 0; p < n-1; p++ {
-			for q := p + 1; q < n; q++ {
-				apq := ad[p*n+q]
-				if apq == 0 {
-					continue
-				}
-				theta := (ad[q*n+q] - ad[p*n+p]) / (2 * apq)
-				t := 1 / (math.Abs(theta) + math.Sqrt(theta*theta+1))
-				if theta < 0 {
-					t = -t
-				}
-				c := 1 / math.Sqrt(t*t+1)
-				sn := t * c
-				for k := 0; k < n; k++ {
-					akp, akq := ad[k*n+p], ad[k*n+q]
-					ad[k*n+p] = c*akp - sn*akq
-					ad[k*n+q] = sn*akp + c*akq
-				}
-				for k := 0; k < n; k++ {
-					apk, aqk := ad[p*n+k], ad[q*n+k]
-					ad[p*n+k] = c*apk - sn*aqk
-					ad[q*n+k] = sn*apk + c*aqk
-				}
-				ad[p*n+q], ad[q*n+p] = 0, 0
-				for k := 0; k < n; k++ {
-					gkp, gkq := gd[k*n+p], gd[k*n+q]
-					gd[k*n+p] = c*gkp - sn*gkq
-					gd[k*n+q] = sn*gkp + c*gkq
-				}
-			}
-		}
-	}
 	for j := 0; j < n; j++ {
 		lam := ad[j*n+j]
 		if lam < -allowance || math.IsNaN(lam) {

@@ -106,7 +106,20 @@ func cholesky(a *Matrix) bool {
 // (Golub, Van Loan, Matrix Computations, 4th ed., section 8.5).
 func SymmetricEigenvalues(s *Matrix, ev []float64) {
 	n := s.rows
-	d := &s.d
+	jacobi(s, nil)
+	for i := 0; i < n; i++ {
+		ev[i] = s.d[i*n+i]
+	}
+	sort.Float64s(ev[:n])
+}
+
+// jacobi diagonalises the symmetric matrix a in place by cyclic Jacobi rotations,
+// a -> Q^T a Q, and if vecs is not nil accumulates vecs -> vecs Q (start it at the identity
+// to obtain the eigenvectors as its columns). It stops when the off-diagonal mass is below
+// 1e-34 of the diagonal's (at round-off) or after 60 sweeps. It does not allocate.
+func jacobi(a *Matrix, vecs *Matrix) {
+	n := a.rows
+	d := &a.d
 	for sweep := 0; sweep < 60; sweep++ {
 		off, diag := 0.0, 0.0
 		for i := 0; i < n; i++ {
@@ -116,7 +129,7 @@ func SymmetricEigenvalues(s *Matrix, ev []float64) {
 			}
 		}
 		if off <= 1e-34*diag || off == 0 {
-			break
+			return
 		}
 		for p := 0; p < n-1; p++ {
 			for q := p + 1; q < n; q++ {
@@ -124,8 +137,7 @@ func SymmetricEigenvalues(s *Matrix, ev []float64) {
 				if apq == 0 {
 					continue
 				}
-				app, aqq := d[p*n+p], d[q*n+q]
-				theta := (aqq - app) / (2 * apq)
+				theta := (d[q*n+q] - d[p*n+p]) / (2 * apq)
 				t := 1 / (math.Abs(theta) + math.Sqrt(theta*theta+1))
 				if theta < 0 {
 					t = -t
@@ -143,13 +155,17 @@ func SymmetricEigenvalues(s *Matrix, ev []float64) {
 					d[q*n+k] = sn*apk + c*aqk
 				}
 				d[p*n+q], d[q*n+p] = 0, 0
+				if vecs != nil {
+					g := &vecs.d
+					for k := 0; k < n; k++ {
+						gkp, gkq := g[k*n+p], g[k*n+q]
+						g[k*n+p] = c*gkp - sn*gkq
+						g[k*n+q] = sn*gkp + c*gkq
+					}
+				}
 			}
 		}
 	}
-	for i := 0; i < n; i++ {
-		ev[i] = d[i*n+i]
-	}
-	sort.Float64s(ev[:n])
 }
 
 // Entropy returns the von Neumann entropy of the Gaussian state with covariance v, in bits.
