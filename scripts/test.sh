@@ -25,6 +25,11 @@ fi
 
 echo "== go test"
 go test -count=1 -timeout 80m ./...
+if [ "${KEYCEILING_SLURM:-0}" = 1 ]; then
+  echo "(the Slurm end-to-end test ran on the cluster started above: TestSlurmArrayEndToEnd)"
+else
+  echo "(the Slurm end-to-end test was skipped: no cluster; run as root on Debian to include it)"
+fi
 
 echo "== fuzzing the readers"
 fuzztime=${FUZZTIME:-10s}
