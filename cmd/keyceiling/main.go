@@ -38,13 +38,13 @@ type command struct {
 func commands() []command {
 	return []command{
 		{"bound", "search squashing maps for one channel and energy; print the certified bound", runBound},
-		{"jobscript", "print a Slurm job script that runs a plan as an array of shards and merges them", runJobscript},
-		{"table", "tabulate result records as Markdown, CSV or LaTeX", runTable},
-		{"plot", "draw a figure (SVG, PNG or PDF) from result records", runPlot},
 		{"refs", "print the closed-form reference bounds at a point or over a grid (no search)", runRefs},
 		{"sweep", "search a grid of points (a plan) with warm starts, shards and resume; no arguments: a demo", runSweep},
 		{"merge", "combine the shard files of an output folder into records.jsonl and summary.csv", runMerge},
 		{"check", "re-verify every record of a file or folder on its own (exit 1 if any fails)", runCheck},
+		{"table", "tabulate result records as Markdown, CSV or LaTeX", runTable},
+		{"plot", "draw a figure (SVG, PNG or PDF) from result records", runPlot},
+		{"jobscript", "print a Slurm job script that runs a plan as an array of shards and merges them", runJobscript},
 		{"version", "print the version", runVersion},
 	}
 }
