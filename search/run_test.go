@@ -220,3 +220,33 @@ func TestBFGSReachesTarget(t *testing.T) {
 		t.Errorf("bfgs: %.6f above the target 1.06881", res.Bound)
 	}
 }
+
+// A map whose float64 evaluation is dominated by round-off (two-mode squeezing r = 15, far
+// beyond what any family produces) must not be certified, whatever its float64 value says:
+// the physics notes' trap, where round-off makes the CMI negative.
+func TestCertifyRejectsRoundOffDominatedMap(t *testing.T) {
+	p := thermalLoss(0.5, 0.5, 1)
+	s := gaussian.Identity(8)
+	for _, op := range []gaussian.Matrix{
+		gaussian.TwoModeSqueezing(4, 0, 1, 15),
+		gaussian.BeamSplitter(4, 0, 2, 0.5),
+		gaussian.TwoModeSqueezing(4, 0, 3, -15),
+		gaussian.BeamSplitter(4, 1, 3, 0.3),
+	} {
+		var next gaussian.Matrix
+		next.Mul(&op, &s)
+		s = next
+	}
+	anc := gaussian.Vacuum(2)
+	ch := gaussian.ChannelFromSymplectic(&s, 2, &anc, []int{0, 1})
+	ev, err := squash.NewEvaluator(p.Model, squash.Thermal(1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	raw, rawErr := ev.Half(&ch)
+	for _, covariant := range []bool{true, false} {
+		if rc, _, err := Certify(p, &ch, covariant); err == nil {
+			t.Errorf("covariant=%v: certified %.6g (float64 said %v, %v)", covariant, rc.Precise, raw, rawErr)
+		}
+	}
+}
