@@ -20,7 +20,7 @@ func runBound(args []string, stdout, _ io.Writer) error {
 	var format string
 	cf.register(fs, true)
 	sf.register(fs)
-	fs.StringVar(&format, "format", "text", "output: text or json (one JSON object)")
+	fs.StringVar(&format, "format", "text", "output: text, or json (one record on one line: append it to a .jsonl file and check, table and plot read it)")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
@@ -49,7 +49,6 @@ func runBound(args []string, stdout, _ io.Writer) error {
 	rec := results.NewRecord(res, st, sf.seed, time.Since(start).Seconds())
 	if format == "json" {
 		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
 		return enc.Encode(rec)
 	}
 	printRecord(stdout, rec)

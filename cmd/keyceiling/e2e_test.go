@@ -543,3 +543,24 @@ func TestE2EDemo(t *testing.T) {
 		t.Logf("WARNING: the demo took %.0f s, more than the two minutes it is sized for", secs)
 	}
 }
+
+// `bound --format json` prints one record on one line, so its output appended to a file is a
+// record file that check and table accept.
+func TestE2EBoundRecordsAreCheckable(t *testing.T) {
+	dir := t.TempDir()
+	var lines []byte
+	for _, energy := range []string{"2", "inf"} {
+		r := e2eRun(t, dir, nil, "bound", "--eta", "0.7", "--noise", "0.1", "--energy", energy,
+			"--family", "tms-split", "--starts", "-1", "--format", "json")
+		if r.code != 0 || strings.Count(r.stdout, "\n") != 1 {
+			t.Fatalf("bound --energy %s: exit %d, stdout %d lines\n%s", energy, r.code, strings.Count(r.stdout, "\n"), r.stderr)
+		}
+		lines = append(lines, r.stdout...)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "mine.jsonl"), lines, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if c := e2eRun(t, dir, nil, "check", "mine.jsonl"); c.code != 0 || !strings.Contains(c.stdout, "2 passed, 0 failed") {
+		t.Errorf("check: exit %d\n%s%s", c.code, c.stdout, c.stderr)
+	}
+}
