@@ -160,3 +160,25 @@ func TestCovSignsMatchesSweeps(t *testing.T) {
 	}
 	t.Logf("%d consistent cases", consistent)
 }
+
+// lq46 gives gaussian.LQ's results bit for bit (random, graded and sparse 4 x 6 matrices).
+func TestLQ46MatchesLQ(t *testing.T) {
+	rng := rand.New(rand.NewPCG(43, 44))
+	for trial := 0; trial < 100000; trial++ {
+		var a [24]float64
+		for i := range a {
+			a[i] = rng.NormFloat64() * []float64{1, 1e-8, 1e8, 1e-200, 1e200}[rng.IntN(5)*(trial%3)/2]
+			if rng.IntN(4) == 0 {
+				a[i] = 0
+			}
+		}
+		b := a
+		lq46(&a)
+		gaussian.LQ(b[:], 4, 6)
+		for i := range a {
+			if math.Float64bits(a[i]) != math.Float64bits(b[i]) && !(math.IsNaN(a[i]) && math.IsNaN(b[i])) {
+				t.Fatalf("trial %d: lq46 %v, LQ %v", trial, a, b)
+			}
+		}
+	}
+}

@@ -31,6 +31,15 @@ type Evaluator struct {
 	// Scratch of covTail: the four spectra and their batch.
 	sp    [4]gaussian.Spectrum
 	batch gaussian.CovBatch
+	// Scratch of covTail2.
+	cov2 gaussian.CovScratch2
+	// The A' and B rows of halfCovariantDirect (they depend on the joint state only): their
+	// x-x and p-p entries on the four joint columns, largest absolute entries, sign masks, and
+	// whether they pass the phase-covariant check (set when jointDiag).
+	abx, abp     [2][4]float64
+	abMx         [2]float64
+	abPos, abNeg [2]uint16
+	abOK         bool
 }
 
 // NewEvaluator prepares the joint state of the model's dilation for the input in.
@@ -49,6 +58,9 @@ func NewEvaluator(model gaussian.Model, in Input) (*Evaluator, error) {
 		return nil, fmt.Errorf("joint state of %v is not finite", model)
 	}
 	e.jointDiag = blocksDiagonal(e.jointF.Data(), 8, 8)
+	if e.jointDiag {
+		e.prepareAB()
+	}
 	return e, nil
 }
 
@@ -315,8 +327,11 @@ func covSigns(nm, nc int, sgn *[gaussian.MaxModes][gaussian.MaxDim / 2]int8) (et
 }
 
 // covTail finishes halfCovariant from P_x in e.px (nm x nc, row stride nc) and the row signs
-// eta.
+// eta (for m = 2 by covTail2, the same operations written for those sizes).
 func (e *Evaluator) covTail(nm, nc, m int, eta *[gaussian.MaxModes]int8, mxE, mxA, mxB float64) (float64, error) {
+	if m == 2 {
+		return e.covTail2(eta, mxE, mxA, mxB)
+	}
 	px := e.px[:nm*nc]
 	// LQ factor L of P_x; rows E' (m), A', B.
 	gaussian.LQ(px, nm, nc)
