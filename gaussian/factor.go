@@ -43,13 +43,9 @@ func LQ(a []float64, d, r int) {
 			continue
 		}
 		x0 := row[0]
-		alpha := -norm
-		if x0 < 0 {
-			alpha = norm
-		}
 		// v = row_i[i:] - alpha e_i, stored in place; 2 / v.v = 1 / (norm (norm + |x0|)).
-		row[0] = x0 - alpha
-		beta := 1 / (norm * (norm + math.Abs(x0)))
+		v0, alpha, beta := householder(x0, norm)
+		row[0] = v0
 		for k := i + 1; k < d; k++ {
 			rk := a[k*r+i : k*r+r]
 			rk = rk[:len(row)]
@@ -369,14 +365,8 @@ func skewTridiagonal(a []float64, d int, e []float64) bool {
 			e[k] = 0
 			continue
 		}
-		norm := math.Sqrt(s)
-		x0 := v[0]
-		alpha := -norm
-		if x0 < 0 {
-			alpha = norm
-		}
-		v[0] = x0 - alpha
-		beta := 1 / (norm * (norm + math.Abs(x0)))
+		var alpha, beta float64
+		v[0], alpha, beta = householder(v[0], math.Sqrt(s))
 		// Trailing block b = a[k+1:, k+1:] <- H b H = b + v w^T - w v^T, w = beta b v
 		// (v^T b v = 0 for antisymmetric b).
 		for i := 0; i < m; i++ {
@@ -611,14 +601,8 @@ func symTridiagonalGeneric(k []float64, n int, d, e []float64) {
 			e[j] = 0
 			continue
 		}
-		norm := math.Sqrt(s)
-		x0 := v[0]
-		alpha := -norm
-		if x0 < 0 {
-			alpha = norm
-		}
-		v[0] = x0 - alpha
-		beta := 1 / (norm * (norm + math.Abs(x0)))
+		var alpha, beta float64
+		v[0], alpha, beta = householder(v[0], math.Sqrt(s))
 		// b <- H b H for the trailing block b: p = beta b v, w = p - (beta/2)(p.v) v,
 		// b -= v w^T + w v^T.
 		pv := 0.0
@@ -760,4 +744,17 @@ func qlSweep(d, e []float64, l, m int) {
 	d[l] -= p
 	e[l] = g
 	e[m] = 0
+}
+
+// householder returns, for a vector x with first entry x0 and norm |x| = norm > 0, the
+// reflection H = I - beta v v^T with H x = alpha e_1: v = x - alpha e_1 (its first entry v0
+// returned; the others are those of x), alpha = -sign(x0) norm (no cancellation in v0),
+// beta = 2 / v.v = 1 / (norm (norm + |x0|)) (Golub, Van Loan, Matrix Computations, 4th ed.,
+// section 5.1.2).
+func householder(x0, norm float64) (v0, alpha, beta float64) {
+	alpha = -norm
+	if x0 < 0 {
+		alpha = norm
+	}
+	return x0 - alpha, alpha, 1 / (norm * (norm + math.Abs(x0)))
 }

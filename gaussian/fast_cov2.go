@@ -130,13 +130,8 @@ func symTridiagonal4(a *[16]float64, d, e *[4]float64) {
 		if s == 0 {
 			e[0] = 0
 		} else {
-			norm := math.Sqrt(s)
-			alpha := -norm
-			if x0 < 0 {
-				alpha = norm
-			}
-			v = [3]float64{x0 - alpha, x1, x2}
-			beta := 1 / (norm * (norm + math.Abs(x0)))
+			v0, alpha, beta := householder(x0, math.Sqrt(s))
+			v = [3]float64{v0, x1, x2}
 			pv := 0.0
 			for i := 0; i < 3; i++ {
 				o := (1+i)*4 + 1
@@ -165,13 +160,8 @@ func symTridiagonal4(a *[16]float64, d, e *[4]float64) {
 		if s == 0 {
 			e[1] = 0
 		} else {
-			norm := math.Sqrt(s)
-			alpha := -norm
-			if x0 < 0 {
-				alpha = norm
-			}
-			v0, v1 := x0-alpha, x1
-			beta := 1 / (norm * (norm + math.Abs(x0)))
+			v0, alpha, beta := householder(x0, math.Sqrt(s))
+			v1 := x1
 			b00, b01, b10, b11 := a[10], a[11], a[14], a[15]
 			w0 := beta * (b00*v0 + b01*v1)
 			pv := w0 * v0
