@@ -678,17 +678,7 @@ func (st *qlProgress) step(d, e []float64) {
 		if m == l+1 {
 			// 2 x 2 block: closed form (the root of larger modulus without
 			// cancellation, the other from the determinant).
-			a, b, c := d[l], e[l], d[l+1]
-			t, h := (a+c)/2, (a-c)/2
-			s := pythag(h, b)
-			big := t + s
-			if t < 0 {
-				big = t - s
-			}
-			small := 0.0
-			if big != 0 {
-				small = (a*c - b*b) / big
-			}
+			big, small := symmetric2x2(d[l], e[l], d[l+1])
 			d[l], d[l+1], e[l] = big, small, 0
 			st.l, st.iter = l+1, 0
 			return
@@ -757,4 +747,19 @@ func householder(x0, norm float64) (v0, alpha, beta float64) {
 		alpha = norm
 	}
 	return x0 - alpha, alpha, 1 / (norm * (norm + math.Abs(x0)))
+}
+
+// symmetric2x2 returns the eigenvalues of [[a, b], [b, c]]: the one of larger modulus
+// without cancellation, the other from the determinant (common practice).
+func symmetric2x2(a, b, c float64) (big, small float64) {
+	t, h := (a+c)/2, (a-c)/2
+	s := pythag(h, b)
+	big = t + s
+	if t < 0 {
+		big = t - s
+	}
+	if big != 0 {
+		small = (a*c - b*b) / big
+	}
+	return big, small
 }

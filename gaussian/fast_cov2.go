@@ -31,6 +31,7 @@ func (q *qlFixed) step() {
 			continue
 		}
 		if m == l+1 {
+			// symmetric2x2 written out: the call is not inlined and this is the hot path.
 			a, b, c := q.d[l&3], q.e[l&3], q.d[(l+1)&3]
 			t, h := (a+c)/2, (a-c)/2
 			s := pythag(h, b)

@@ -16,18 +16,8 @@ D=${1:-/tmp/keyceiling-slurm}
 WAIT=${SLURM_DOWN_WAIT:-15}
 case $D in /*) ;; *) D=$(pwd)/$D ;; esac
 
-# pid_of PIDFILE NAME: prints the pid if it names a live (not zombie) process called NAME.
-pid_of() {
-	local pid state comm
-	[ -s "$1" ] || return 1
-	pid=$(tr -dc 0-9 2>/dev/null <"$1") || return 1
-	[ -n "$pid" ] && [ -r "/proc/$pid/stat" ] || return 1
-	comm=$(cat "/proc/$pid/comm" 2>/dev/null) || return 1
-	[ "$comm" = "$2" ] || return 1
-	state=$(sed 's/^.*) //' "/proc/$pid/stat" 2>/dev/null | cut -d' ' -f1) || return 1
-	[ "$state" != Z ] && [ "$state" != X ] || return 1
-	echo "$pid"
-}
+# shellcheck source=scripts/slurm-lib.sh
+. "$(dirname "$0")/slurm-lib.sh"
 
 status=0
 stop() { # NAME PIDFILE

@@ -31,17 +31,8 @@ MUNGE_PID=/run/munge/munged.pid
 case $D in /*) ;; *) D=$(pwd)/$D ;; esac
 case $D in *[[:space:]]*) die "state folder $D contains white space; slurm.conf cannot hold it" ;; esac
 
-# alive PIDFILE NAME: the pid file names a running (not zombie) process called NAME.
-alive() {
-	local pid state comm
-	[ -s "$1" ] || return 1
-	pid=$(tr -dc 0-9 2>/dev/null <"$1") || return 1
-	[ -n "$pid" ] && [ -r "/proc/$pid/stat" ] || return 1
-	comm=$(cat "/proc/$pid/comm" 2>/dev/null) || return 1
-	[ "$comm" = "$2" ] || return 1
-	state=$(sed 's/^.*) //' "/proc/$pid/stat" 2>/dev/null | cut -d' ' -f1) || return 1
-	[ "$state" != Z ] && [ "$state" != X ]
-}
+# shellcheck source=scripts/slurm-lib.sh
+. "$(dirname "$0")/slurm-lib.sh"
 
 # --- 1. packages -----------------------------------------------------------------------
 installed() {
