@@ -117,6 +117,34 @@ func BenchmarkTargetValue(b *testing.B) {
 	}
 }
 
+// BenchmarkTargetValuePoints is Target.Value for TMSSplit at 200 random parameter vectors
+// (uniform in [-2, 2]^5, the range of the search's random starts and of bench/compare.sh),
+// evaluated in turn: unlike BenchmarkTargetValue, which repeats one point, the branches of
+// the eigenvalue iterations vary from call to call as they do in a search. ns/op is per
+// evaluation.
+func BenchmarkTargetValuePoints(b *testing.B) {
+	t, err := NewTarget(benchModel, benchEnergy, TMSSplit{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(1, 1))
+	pts := make([][]float64, 200)
+	for i := range pts {
+		pts[i] = make([]float64, 5)
+		for j := range pts[i] {
+			pts[i][j] = 4*rng.Float64() - 2
+		}
+	}
+	b.ReportAllocs()
+	i := 0
+	for b.Loop() {
+		t.Value(pts[i])
+		if i++; i == len(pts) {
+			i = 0
+		}
+	}
+}
+
 // TestHotPathAllocs asserts that the objective's hot path does not allocate: Evaluator.Half,
 // Ladder.Half once its levels exist, and Target.Value for every benchmarked family at finite
 // and (for covariant families) infinite energy.
