@@ -19,6 +19,8 @@
 # 5. Times one tms-split point search and one auto-family point search
 #    (`keyceiling bound`), and the built-in demo sweep if `keyceiling sweep` exists
 #    (SKIP_SWEEP=1 skips it; SKIP_AUTO=1 skips the auto-family search).
+# CHECK_ONLY=1 stops after step 3: the agreement check alone, no timing (scripts/test.sh
+# runs it that way at three channel settings).
 #
 # Environment: POINTS (200), SEED (1), ROUNDS (12), MIN_SECONDS (0.5), WINDOW (0.05), ETA (0.9),
 # NB (1), NS (1).
@@ -87,6 +89,9 @@ if not worst <= tol:
              f"{' '.join(pts[wi])}: Go {g[wi]!r}, NumPy {n[wi]!r}")
 print(f"== agreement: {len(g)} points, max |Go - NumPy| = {worst:.2e} bits (tolerance {tol:g})")
 EOF
+if [ "${CHECK_ONLY:-0}" = 1 ]; then
+  exit 0
+fi
 
 # --- 4. evaluations per second -----------------------------------------------------------
 # The machine may be shared: other load slows either program for seconds at a time. Both

@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
-# The project's test command (README): static checks, the whole test suite, brief fuzzing of
-# the file readers, and — when run as root on a Debian machine — the end-to-end test on a real
-# one-node Slurm cluster that this script starts and stops.
+# The project's test command (README): static checks, the whole test suite, the objective
+# checked against the independent NumPy implementation in bench/ (Debian's python3-numpy,
+# installed when run as root), brief fuzzing of the file readers, and — when run as root on
+# a Debian machine — the end-to-end test on a real one-node Slurm cluster that this script
+# starts and stops.
 #   KEYCEILING_NO_SLURM=1  skip the cluster (the Slurm test then reports itself skipped)
 #   FUZZTIME=10s           how long each fuzz target runs
 set -euo pipefail
@@ -29,6 +31,22 @@ if [ "${KEYCEILING_SLURM:-0}" = 1 ]; then
   echo "(the Slurm end-to-end test ran on the cluster started above: TestSlurmArrayEndToEnd)"
 else
   echo "(the Slurm end-to-end test was skipped: no cluster; run as root on Debian to include it)"
+fi
+
+echo "== the objective against an independent NumPy implementation (bench/objective.py)"
+# Covariance matrices and eigvalsh there, square-root factors and the phase-covariant route
+# here: 200 random tms-split maps must agree to 1e-9 bits at each setting. No timing.
+if /usr/bin/python3 -c 'import numpy' 2>/dev/null || { [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null; }; then
+  while read -r eta nb ns; do
+    echo "-- thermal loss eta=$eta N_B=$nb, N_S=$ns"
+    CHECK_ONLY=1 ETA=$eta NB=$nb NS=$ns bash bench/compare.sh
+  done <<'SETTINGS'
+0.9 1 1
+0.5 0 10
+0.2 0.3 0.1
+SETTINGS
+else
+  echo "(skipped: /usr/bin/python3 cannot import numpy, and apt-get is not usable to install it)"
 fi
 
 echo "== fuzzing the readers"
