@@ -36,7 +36,14 @@ fi
 echo "== the objective against an independent NumPy implementation (bench/objective.py)"
 # Covariance matrices and eigvalsh there, square-root factors and the phase-covariant route
 # here: 200 random tms-split maps must agree to 1e-9 bits at each setting. No timing.
-if /usr/bin/python3 -c 'import numpy' 2>/dev/null || { [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null; }; then
+numpy_ok() { /usr/bin/python3 -c 'import numpy' 2>/dev/null; }
+if ! numpy_ok && [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null; then
+  echo "-- installing Debian's python3-numpy"
+  { apt-cache show python3-numpy >/dev/null 2>&1 || apt-get update -q; } &&
+    apt-get install -y -q --no-install-recommends -o DPkg::Lock::Timeout=300 python3-numpy ||
+    echo "(could not install python3-numpy)"
+fi
+if numpy_ok; then
   while read -r eta nb ns; do
     echo "-- thermal loss eta=$eta N_B=$nb, N_S=$ns"
     CHECK_ONLY=1 ETA=$eta NB=$nb NS=$ns bash bench/compare.sh
@@ -46,7 +53,7 @@ if /usr/bin/python3 -c 'import numpy' 2>/dev/null || { [ "$(id -u)" = 0 ] && com
 0.2 0.3 0.1
 SETTINGS
 else
-  echo "(skipped: /usr/bin/python3 cannot import numpy, and apt-get is not usable to install it)"
+  echo "(skipped: /usr/bin/python3 cannot import numpy, and it could not be installed here)"
 fi
 
 echo "== fuzzing the readers"
