@@ -2,10 +2,11 @@ package gaussian
 
 import "math"
 
-// Spectra of the four subsystems of a two-mode E' in the phase-covariant route (the
-// TMSSplit case): E' (2 x 2), A'E' and BE' (3 x 3), A'BE' (4 x 4). CovSpectra2 gives the
-// same results as CovBatch.Spectra on these four problems, bit for bit: the same Householder
-// steps, the same QL sweeps and deflations, written for fixed sizes (arrays, no slices) and
+// Spectra of the subsystems of a two-mode E' in the phase-covariant route (the TMSSplit
+// case): A'E' and BE' (3 x 3) and A'BE' (4 x 4); E' (2 x 2) has a closed form. CovSpectra2
+// runs cyclic Jacobi sweeps (fast_jacobi.go); its fallback covSpectra2QL gives the same
+// results as CovBatch.Spectra on these problems, bit for bit: the same Householder steps,
+// the same QL sweeps and deflations, written for fixed sizes (arrays, no slices) and
 // advanced in turn.
 
 // qlFixed is tridiagonalQL's state on one matrix of order n <= 4 held in arrays.
@@ -189,11 +190,66 @@ type CovScratch2 struct {
 	d0, e0 [3][4]float64
 }
 
-// CovSpectra2 writes CovariantSpectrum(kE, 2, detE), CovariantSpectrum(kAE, 3, .),
-// CovariantSpectrum(kBE, 3, .) and CovariantSpectrum(kABE, 4, .) into out[2], out[0], out[1]
-// and out[3] (the order of the phase-covariant route's entropies); the matrices are
-// overwritten. The results equal CovBatch.Spectra's bit for bit. It does not allocate.
-func (w *CovScratch2) CovSpectra2(kE *[4]float64, detE float64, kAE, kBE *[9]float64, kABE *[16]float64, out *[4]Spectrum) {
+// CovSpectra2 writes the spectra CovariantSpectrum(kAE, 3, .), CovariantSpectrum(kBE, 3, .)
+// and CovariantSpectrum(kABE, 4, .) into out[0], out[1] and out[3] (the order of the
+// phase-covariant route's entropies; out[2], the E' problem's closed form, is left to the
+// caller, which computes it first so that its entropy overlaps these iterations). The
+// eigenvalues come from jacobiLockstepGen (fast_jacobi.go): the same as CovBatch.Spectra's
+// Householder and QL to within a few eps |K|, not the same bits. When the Jacobi sweeps
+// decline (an entry not finite or too large, or no convergence) covSpectra2QL computes
+// them, as CovBatch.Spectra does, bit for bit. kAE, kBE and kABE may be overwritten. It
+// does not allocate.
+func (w *CovScratch2) CovSpectra2(kAE, kBE *[9]float64, kABE *[16]float64, out *[4]Spectrum) {
+	var d4 [4]float64
+	var da, db [3]float64
+	if !jacobiLockstepGen(kABE, kAE, kBE, &d4, &da, &db) {
+		w.covSpectra2QL(kAE, kBE, kABE, out)
+		return
+	}
+	moduliSorted3(&da, &out[0])
+	moduliSorted3(&db, &out[1])
+	moduliSorted4(&d4, &out[3])
+}
+
+// moduliSorted3 and moduliSorted4 write the moduli of the eigenvalues d, ascending, into
+// out, by sorting networks (Knuth, The Art of Computer Programming 3, sec. 5.3.4) on the
+// moduli's bit patterns, which order as the moduli do (IEEE 754-2019, sec. 3.4): each
+// comparator is a conditional move, where an insertion sort of eigenvalues in random order
+// mispredicts its branches and the floating-point min and max take longer sequences. The
+// moduli are finite (jacobiLockstepGen returned true).
+func moduliSorted3(d *[3]float64, out *Spectrum) {
+	a, b, c := absBits(d[0]), absBits(d[1]), absBits(d[2])
+	a, b = sort2Bits(a, b)
+	b, c = sort2Bits(b, c)
+	a, b = sort2Bits(a, b)
+	out.N = 3
+	out.Nu[0], out.Nu[1], out.Nu[2] = math.Float64frombits(a), math.Float64frombits(b), math.Float64frombits(c)
+}
+
+func moduliSorted4(d *[4]float64, out *Spectrum) {
+	a, b, c, e := absBits(d[0]), absBits(d[1]), absBits(d[2]), absBits(d[3])
+	a, b = sort2Bits(a, b)
+	c, e = sort2Bits(c, e)
+	a, c = sort2Bits(a, c)
+	b, e = sort2Bits(b, e)
+	b, c = sort2Bits(b, c)
+	out.N = 4
+	out.Nu[0], out.Nu[1], out.Nu[2], out.Nu[3] = math.Float64frombits(a), math.Float64frombits(b), math.Float64frombits(c), math.Float64frombits(e)
+}
+
+// sort2Bits returns min(a, b), max(a, b).
+func sort2Bits(a, b uint64) (uint64, uint64) {
+	lo := a
+	if b < a {
+		lo = b
+	}
+	return lo, a ^ b ^ lo
+}
+
+// covSpectra2QL is CovSpectra2 by Householder tridiagonalisation and implicit QL: the same
+// steps as CovBatch.Spectra on these three problems, bit for bit, written for fixed sizes
+// and with the three QL problems advanced in turn. The matrices are overwritten.
+func (w *CovScratch2) covSpectra2QL(kAE, kBE *[9]float64, kABE *[16]float64, out *[4]Spectrum) {
 	q := &w.q
 	// The A'BE' problem first: its chain of sweeps is the longest.
 	symTridiagonal4(kABE, &q[2].d, &q[2].e)
@@ -216,7 +272,6 @@ func (w *CovScratch2) CovSpectra2(kE *[4]float64, detE float64, kAE, kBE *[9]flo
 			q[1].step()
 		}
 	}
-	CovariantSpectrum(kE[:], 2, detE, &out[2])
 	q[0].finish(&w.d0[0], &w.e0[0], &out[0])
 	q[1].finish(&w.d0[1], &w.e0[1], &out[1])
 	q[2].finish(&w.d0[2], &w.e0[2], &out[3])

@@ -36,7 +36,7 @@ func (e *Evaluator) halfCovDirect2(xd, gd *[16]float64, jd *[64]float64) (float6
 	var pos, neg [gaussian.MaxModes]uint16
 	for i := 0; i < 2; i++ {
 		var ok bool
-		mxRow[i], pos[i], neg[i], ok = covRowCheck(px[6*i:6*i+6], pp[i][:])
+		mxRow[i], pos[i], neg[i], ok = covRowCheck6((*[6]float64)(px[6*i:6*i+6]), &pp[i])
 		if !ok {
 			return 0, false, nil
 		}
@@ -101,16 +101,17 @@ func (e *Evaluator) covTail2(eta *[gaussian.MaxModes]int8, mxE, mxA, mxB float64
 		h3 * l30, h3 * l31, h3 * l32, h3 * l33,
 	}
 	sp := &e.sp
-	e.cov2.CovSpectra2(&kE, detE, &kAE, &kBE, &kABE, sp)
+	gaussian.CovariantSpectrum(kE[:], 2, detE, &sp[2])
+	sE, err := covSpectrumEntropy(&sp[2], detE, mxE)
+	if err != nil {
+		return math.NaN(), err
+	}
+	e.cov2.CovSpectra2(&kAE, &kBE, &kABE, sp)
 	sAE, err := covSpectrumEntropy(&sp[0], detE*detA, max(mxE, mxA))
 	if err != nil {
 		return math.NaN(), err
 	}
 	sBE, err := covSpectrumEntropy(&sp[1], detBE, max(mxE, mxB))
-	if err != nil {
-		return math.NaN(), err
-	}
-	sE, err := covSpectrumEntropy(&sp[2], detE, mxE)
 	if err != nil {
 		return math.NaN(), err
 	}
@@ -130,49 +131,146 @@ func hypotPlain(a, b float64) float64 {
 	return math.Hypot(a, b)
 }
 
-// lq46 is gaussian.LQ(a, 4, 6) on an array: the same floating-point operations in the same
-// order.
-func lq46(a *[24]float64) {
-	rows := [4]*[6]float64{(*[6]float64)(a[0:6]), (*[6]float64)(a[6:12]),
-		(*[6]float64)(a[12:18]), (*[6]float64)(a[18:24])}
-	for i := 0; i < 4; i++ {
-		row := rows[i]
-		s := 0.0
-		for j := i; j < 6; j++ {
-			s += row[j] * row[j]
+// covRowCheck6 is covRowCheck for six columns, without data-dependent branches: the
+// magnitudes of finite floats order as their bit patterns do (IEEE 754-2019, sec. 3.4), so
+// the largest entry, the largest ||q_j| - |x_j|| and the sign masks are integer maxima,
+// comparisons and shifts, which the compiler makes conditional moves; the entries of a
+// row arrive in no predictable order, and a mispredicted branch costs more than these
+// operations. The same results as covRowCheck whenever it reports ok; when it does not,
+// ok is false here too (a NaN entry is caught by the first test instead of the second).
+func covRowCheck6(x, q *[6]float64) (mx float64, pos, neg uint16, ok bool) {
+	const eps = 0x1p-52
+	const abs = 1<<63 - 1
+	var mb uint64
+	for j := 0; j < 6; j++ {
+		a, b := math.Float64bits(x[j])&abs, math.Float64bits(q[j])&abs
+		if a > mb {
+			mb = a
 		}
-		var norm float64
-		if s > 0x1p-900 && s < 0x1p900 {
-			norm = math.Sqrt(s)
-		} else {
-			for j := i; j < 6; j++ {
-				norm = math.Hypot(norm, row[j])
-			}
-		}
-		if norm == 0 {
-			continue
-		}
-		x0 := row[i]
-		alpha := -norm
-		if x0 < 0 {
-			alpha = norm
-		}
-		row[i] = x0 - alpha
-		beta := 1 / (norm * (norm + math.Abs(x0)))
-		for k := i + 1; k < 4; k++ {
-			rk := rows[k]
-			dot := 0.0
-			for j := i; j < 6; j++ {
-				dot += rk[j] * row[j]
-			}
-			s := beta * dot
-			for j := i; j < 6; j++ {
-				rk[j] -= s * row[j]
-			}
-		}
-		row[i] = alpha
-		for j := i + 1; j < 6; j++ {
-			row[j] = 0
+		if b > mb {
+			mb = b
 		}
 	}
+	mx = math.Float64frombits(mb)
+	if !(mx <= math.MaxFloat64) {
+		return mx, 0, 0, false // an infinite or NaN entry
+	}
+	tol := 8 * eps * mx
+	tb := math.Float64bits(tol)
+	var db uint64
+	var p, n uint64
+	for j := 0; j < 6; j++ {
+		a, b := x[j], q[j]
+		d := math.Float64bits(math.Abs(b)-math.Abs(a)) & abs
+		if d > db {
+			db = d
+		}
+		// nz: |a| > tol; diff: the signs of a and b differ.
+		nz := (tb - math.Float64bits(a)&abs) >> 63
+		diff := (math.Float64bits(a) ^ math.Float64bits(b)) >> 63
+		p |= (nz &^ diff) << j
+		n |= (nz & diff) << j
+	}
+	if !(math.Float64frombits(db) <= tol) {
+		return mx, 0, 0, false // not in phase-covariant form
+	}
+	return mx, uint16(p), uint16(n), true
 }
+
+// lq46 is the LQ decomposition of the 4 x 6 matrix a (rows E'1, E'2, A', B) in place by
+// Householder reflections, as gaussian.LQ(a, 4, 6) computes it, with shorter dependency
+// chains: the sums of squares and the products with the later rows are summed pairwise,
+// and the products are taken with the row before its reflection, so that they run
+// alongside its norm (with v = row - alpha e_i, v.r = row.r - alpha r_i). The same
+// reflections, rounded differently: L agrees with gaussian.LQ's to a few ulps of the rows'
+// norms, and L L^T with A A^T as closely (TestLQ46AgainstLQ). A row whose sum of squares
+// over- or underflows (entries beyond about 2^+-450, far from any covariance factor here)
+// sends the whole matrix to gaussian.LQ, which takes such norms by math.Hypot.
+func lq46(a *[24]float64) {
+	orig := *a
+	if !lq46Plain(a) {
+		*a = orig
+		gaussian.LQ(a[:], 4, 6)
+	}
+}
+
+// lq46Plain is lq46 for rows whose sums of squares are in (2^-900, 2^900) (then no product
+// of two entries over- or underflows to a loss); it reports false, with a overwritten, at
+// the first row that is not (a zero row included: gaussian.LQ skips it).
+func lq46Plain(a *[24]float64) bool {
+	r0, r1, r2, r3 := (*[6]float64)(a[0:6]), (*[6]float64)(a[6:12]), (*[6]float64)(a[12:18]), (*[6]float64)(a[18:24])
+	// Step 0: row 0 on columns 0..5.
+	s := (r0[0]*r0[0] + r0[1]*r0[1]) + (r0[2]*r0[2] + r0[3]*r0[3]) + (r0[4]*r0[4] + r0[5]*r0[5])
+	d1 := (r1[0]*r0[0] + r1[1]*r0[1]) + (r1[2]*r0[2] + r1[3]*r0[3]) + (r1[4]*r0[4] + r1[5]*r0[5])
+	d2 := (r2[0]*r0[0] + r2[1]*r0[1]) + (r2[2]*r0[2] + r2[3]*r0[3]) + (r2[4]*r0[4] + r2[5]*r0[5])
+	d3 := (r3[0]*r0[0] + r3[1]*r0[1]) + (r3[2]*r0[2] + r3[3]*r0[3]) + (r3[4]*r0[4] + r3[5]*r0[5])
+	if !lqInRange(s) {
+		return false
+	}
+	alpha, v0, beta := lqReflector(r0[0], s)
+	s1, s2, s3 := (d1-r1[0]*alpha)*beta, (d2-r2[0]*alpha)*beta, (d3-r3[0]*alpha)*beta
+	r1[0] -= s1 * v0
+	r2[0] -= s2 * v0
+	r3[0] -= s3 * v0
+	for j := 1; j < 6; j++ {
+		r1[j] -= s1 * r0[j]
+		r2[j] -= s2 * r0[j]
+		r3[j] -= s3 * r0[j]
+	}
+	r0[0], r0[1], r0[2], r0[3], r0[4], r0[5] = alpha, 0, 0, 0, 0, 0
+
+	// Step 1: row 1 on columns 1..5.
+	s = (r1[1]*r1[1] + r1[2]*r1[2]) + (r1[3]*r1[3] + r1[4]*r1[4]) + r1[5]*r1[5]
+	d2 = (r2[1]*r1[1] + r2[2]*r1[2]) + (r2[3]*r1[3] + r2[4]*r1[4]) + r2[5]*r1[5]
+	d3 = (r3[1]*r1[1] + r3[2]*r1[2]) + (r3[3]*r1[3] + r3[4]*r1[4]) + r3[5]*r1[5]
+	if !lqInRange(s) {
+		return false
+	}
+	alpha, v0, beta = lqReflector(r1[1], s)
+	s2, s3 = (d2-r2[1]*alpha)*beta, (d3-r3[1]*alpha)*beta
+	r2[1] -= s2 * v0
+	r3[1] -= s3 * v0
+	for j := 2; j < 6; j++ {
+		r2[j] -= s2 * r1[j]
+		r3[j] -= s3 * r1[j]
+	}
+	r1[1], r1[2], r1[3], r1[4], r1[5] = alpha, 0, 0, 0, 0
+
+	// Step 2: row 2 on columns 2..5.
+	s = (r2[2]*r2[2] + r2[3]*r2[3]) + (r2[4]*r2[4] + r2[5]*r2[5])
+	d3 = (r3[2]*r2[2] + r3[3]*r2[3]) + (r3[4]*r2[4] + r3[5]*r2[5])
+	if !lqInRange(s) {
+		return false
+	}
+	alpha, v0, beta = lqReflector(r2[2], s)
+	s3 = (d3 - r3[2]*alpha) * beta
+	r3[2] -= s3 * v0
+	for j := 3; j < 6; j++ {
+		r3[j] -= s3 * r2[j]
+	}
+	r2[2], r2[3], r2[4], r2[5] = alpha, 0, 0, 0
+
+	// Step 3: row 3 on columns 3..5.
+	s = (r3[3]*r3[3] + r3[4]*r3[4]) + r3[5]*r3[5]
+	if !lqInRange(s) {
+		return false
+	}
+	alpha, _, _ = lqReflector(r3[3], s)
+	r3[3], r3[4], r3[5] = alpha, 0, 0
+	return true
+}
+
+// lqReflector is gaussian.LQ's Householder reflector for a row with leading entry x0 and
+// sum of squares s > 0: alpha = -sgn(x0) |row| (the new diagonal entry), v0 = x0 - alpha
+// (the reflector's leading entry; the others are the row's) and beta = 2 / (v.v).
+func lqReflector(x0, s float64) (alpha, v0, beta float64) {
+	norm := math.Sqrt(s)
+	alpha = -norm
+	if x0 < 0 {
+		alpha = norm
+	}
+	return alpha, x0 - alpha, 1 / (norm * (norm + math.Abs(x0)))
+}
+
+// lqInRange reports whether a sum of squares s is in (2^-900, 2^900).
+func lqInRange(s float64) bool { return s > 0x1p-900 && s < 0x1p900 }

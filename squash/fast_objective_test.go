@@ -2,6 +2,7 @@ package squash
 
 import (
 	"math"
+	"math/big"
 	"math/rand/v2"
 	"testing"
 
@@ -161,24 +162,128 @@ func TestCovSignsMatchesSweeps(t *testing.T) {
 	t.Logf("%d consistent cases", consistent)
 }
 
-// lq46 gives gaussian.LQ's results bit for bit (random, graded and sparse 4 x 6 matrices).
-func TestLQ46MatchesLQ(t *testing.T) {
+// lq46 (pairwise sums, products taken before the reflection) against gaussian.LQ (plain
+// sums) on random, graded (rows and entries scaled by up to 1e+-100) and sparse 4 x 6
+// matrices: both are Householder LQ decompositions, backward stable row by row (Higham,
+// Accuracy and Stability of Numerical Algorithms, 2nd ed., Thm. 19.4, for QR by columns),
+// so L is lower triangular and (L L^T)_ik equals (A A^T)_ik to a few eps |a_i| |a_k|; on the
+// unscaled matrices (well conditioned) the two L also agree entry by entry to a few
+// eps |a_i| (the same reflections; a column may differ in sign where its pivot is
+// negligible, so columns are compared up to sign). Matrices
+// with entries near 1e+-200, whose sums of squares over- or underflow, go to gaussian.LQ
+// itself: there the results are its own, bit for bit.
+func TestLQ46AgainstLQ(t *testing.T) {
+	const eps = 0x1p-52
 	rng := rand.New(rand.NewPCG(43, 44))
-	for trial := 0; trial < 100000; trial++ {
+	worstG, worstL := 0.0, 0.0
+	delegated := 0
+	for trial := 0; trial < 30000; trial++ {
 		var a [24]float64
+		extreme := trial%10 == 0
 		for i := range a {
-			a[i] = rng.NormFloat64() * []float64{1, 1e-8, 1e8, 1e-200, 1e200}[rng.IntN(5)*(trial%3)/2]
+			scales := []float64{1, 1e-8, 1e8, 1e-100, 1e100}
+			if extreme {
+				scales = []float64{1, 1e-200, 1e200}
+			}
+			a[i] = rng.NormFloat64() * scales[rng.IntN(len(scales))*(trial%3)/2]
 			if rng.IntN(4) == 0 {
 				a[i] = 0
 			}
 		}
-		b := a
-		lq46(&a)
-		gaussian.LQ(b[:], 4, 6)
-		for i := range a {
-			if math.Float64bits(a[i]) != math.Float64bits(b[i]) && !(math.IsNaN(a[i]) && math.IsNaN(b[i])) {
-				t.Fatalf("trial %d: lq46 %v, LQ %v", trial, a, b)
+		l, g := a, a
+		lq46(&l)
+		gaussian.LQ(g[:], 4, 6)
+		if p := a; !lq46Plain(&p) {
+			delegated++
+			for i := range l {
+				if math.Float64bits(l[i]) != math.Float64bits(g[i]) && !(math.IsNaN(l[i]) && math.IsNaN(g[i])) {
+					t.Fatalf("trial %d: delegated, but lq46 %v, LQ %v", trial, l, g)
+				}
+			}
+			continue
+		}
+		var norm [4]float64
+		for i := 0; i < 4; i++ {
+			for j := 0; j < 6; j++ {
+				norm[i] = math.Hypot(norm[i], a[6*i+j])
+			}
+		}
+		for i := 0; i < 4; i++ {
+			for j := i + 1; j < 6; j++ {
+				if l[6*i+j] != 0 {
+					t.Fatalf("trial %d: lq46 left L[%d][%d] = %g above the diagonal", trial, i, j, l[6*i+j])
+				}
+			}
+			for k := 0; k <= i; k++ {
+				// (L L^T)_ik - (A A^T)_ik in extended precision, over |a_i| |a_k|.
+				d := new(big.Float)
+				for j := 0; j < 6; j++ {
+					d.Add(d, new(big.Float).Mul(big.NewFloat(l[6*i+j]), big.NewFloat(l[6*k+j])))
+					d.Sub(d, new(big.Float).Mul(big.NewFloat(a[6*i+j]), big.NewFloat(a[6*k+j])))
+				}
+				d.Quo(d, big.NewFloat(norm[i]))
+				d.Quo(d, big.NewFloat(norm[k]))
+				r, _ := d.Float64()
+				worstG = max(worstG, math.Abs(r)/eps)
+			}
+			for j := 0; j <= i && trial%3 == 0 && !extreme; j++ {
+				gij := g[6*i+j]
+				if (l[6*j+j] < 0) != (g[6*j+j] < 0) {
+					gij = -gij
+				}
+				worstL = max(worstL, math.Abs(l[6*i+j]-gij)/eps/norm[i])
 			}
 		}
 	}
+	if !(worstG <= 16 && worstL <= 64) || delegated == 0 {
+		t.Errorf("largest |L L^T - A A^T| = %.1f eps |a_i||a_k| (limit 16), |L - L_LQ| = %.1f eps |a_i| (limit 64); %d delegated", worstG, worstL, delegated)
+	}
+	t.Logf("largest |L L^T - A A^T| = %.2f eps |a_i||a_k|, |L - gaussian.LQ's L| = %.2f eps |a_i|; %d of 30000 delegated to gaussian.LQ", worstG, worstL, delegated)
+}
+
+// covRowCheck6 (integer maxima and masks, no data-dependent branches) reaches covRowCheck's
+// decisions: the same ok, and when ok the same largest entry and sign masks. Rows in
+// phase-covariant form with random signs, entries within and just outside the tolerance,
+// zeros, entries at the zero tolerance, infinities and NaNs.
+func TestCovRowCheck6MatchesCovRowCheck(t *testing.T) {
+	const eps = 0x1p-52
+	rng := rand.New(rand.NewPCG(47, 48))
+	oks := 0
+	for trial := 0; trial < 200000; trial++ {
+		var x, q [6]float64
+		sc := []float64{1, 1e-8, 1e8, 1e-300, 1e300}[rng.IntN(5)]
+		for j := range x {
+			x[j] = sc * rng.NormFloat64()
+			q[j] = x[j]
+			if rng.IntN(2) == 0 {
+				q[j] = -q[j]
+			}
+			switch rng.IntN(12) {
+			case 0:
+				x[j], q[j] = 0, 0
+			case 1: // |q| - |x| near the tolerance 8 eps max
+				q[j] = math.Copysign(math.Abs(x[j])+float64(rng.IntN(20))*eps*sc, q[j])
+			case 2: // |x| at the zero tolerance
+				x[j] = 8 * eps * sc * float64(rng.IntN(3))
+				q[j] = -x[j]
+			case 3:
+				if rng.IntN(20) == 0 {
+					x[j] = []float64{math.Inf(1), math.Inf(-1), math.NaN()}[rng.IntN(3)]
+				}
+			case 4:
+				if rng.IntN(20) == 0 {
+					q[j] = math.NaN()
+				}
+			}
+		}
+		mx1, p1, n1, ok1 := covRowCheck(x[:], q[:])
+		mx2, p2, n2, ok2 := covRowCheck6(&x, &q)
+		if ok1 != ok2 || ok1 && (mx1 != mx2 || p1 != p2 || n1 != n2) {
+			t.Fatalf("trial %d: x %v q %v: covRowCheck %v %b %b %v, covRowCheck6 %v %b %b %v", trial, x, q, mx1, p1, n1, ok1, mx2, p2, n2, ok2)
+		}
+		if ok1 {
+			oks++
+		}
+	}
+	t.Logf("%d of 200000 rows accepted", oks)
 }

@@ -179,3 +179,44 @@ func TestFastAgainstPrecise(t *testing.T) {
 		t.Logf("N_S = %g: largest |Half - PreciseHalf| = %.3g bits", ns, worst)
 	}
 }
+
+// TestTMSSplitAgainstPrecise is TestFastAgainstPrecise for TMSSplit alone (the family whose
+// spectra take gaussian.CovSpectra2's Jacobi sweeps), thermal inputs, more maps: the largest
+// and mean |Half - PreciseHalf| per N_S (KC_PRECISE=1; slow).
+func TestTMSSplitAgainstPrecise(t *testing.T) {
+	if os.Getenv("KC_PRECISE") == "" {
+		t.Skip("KC_PRECISE not set")
+	}
+	rng := rand.New(rand.NewPCG(101, 102))
+	models := []gaussian.Model{benchModel, {Kind: gaussian.ThermalLoss, Eta: 0.5, NB: 0}, {Kind: gaussian.ThermalLoss, Eta: 0.1, NB: 10}}
+	for _, ns := range []float64{0.01, 1, 100} {
+		worst, sum, n := 0.0, 0.0, 0
+		for _, model := range models {
+			ev, err := NewEvaluator(model, Thermal(ns))
+			if err != nil {
+				t.Fatal(err)
+			}
+			for trial := 0; trial < 100; trial++ {
+				p := make([]float64, 5)
+				for j := range p {
+					p[j] = 4*rng.Float64() - 2
+				}
+				var ch gaussian.Channel
+				MapOf(TMSSplit{}, p, &ch)
+				v, err := ev.Half(&ch)
+				if err != nil {
+					continue
+				}
+				ref, err := PreciseHalf(model, Thermal(ns), &ch)
+				if err != nil {
+					continue
+				}
+				d := math.Abs(v - ref)
+				worst = math.Max(worst, d)
+				sum += d
+				n++
+			}
+		}
+		t.Logf("N_S = %g: %d maps, largest |Half - PreciseHalf| = %.3g bits, mean %.3g", ns, n, worst, sum/float64(n))
+	}
+}

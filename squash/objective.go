@@ -415,7 +415,7 @@ func covSpectrumEntropy(sp *gaussian.Spectrum, det, mx float64) (float64, error)
 	if !(det > 0) {
 		return 0, fmt.Errorf("gaussian: singular covariance (det R = %g): %w", det, gaussian.ErrUnphysical)
 	}
-	return spectrumEntropy(sp, gaussian.PurityTolerance*math.Max(1, mx*mx))
+	return spectrumEntropy(sp, gaussian.PurityTolerance*max(1, mx*mx))
 }
 
 // sqrtFactorY is gaussian.SymmetricSqrtFactor(y, g, YAllowance max(1, max|Y_ij|)) with a
@@ -425,20 +425,25 @@ func covSpectrumEntropy(sp *gaussian.Spectrum, det, mx float64) (float64, error)
 func sqrtFactorY(y, g *gaussian.Matrix) error {
 	n, _ := y.Dims()
 	yd := y.Data()
-	mx := 0.0
+	// The largest |Y_ij| as the largest bit pattern of the magnitudes (finite magnitudes order
+	// as their bits do, IEEE 754-2019 sec. 3.4, and a NaN's bits exceed +Inf's, so a NaN
+	// entry makes mx a NaN): a conditional move, where the float comparison was a branch
+	// that the diagonal entries, in no predictable order, mispredicted.
+	var mb uint64
 	diagonal := true
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {
 			v := yd[i*n+j]
-			if a := math.Abs(v); a > mx || a != a {
-				mx = a
+			if a := math.Float64bits(v) &^ (1 << 63); a > mb {
+				mb = a
 			}
 			if i != j && v != 0 {
 				diagonal = false
 			}
 		}
 	}
-	allowance := YAllowance * math.Max(1, mx)
+	mx := math.Float64frombits(mb)
+	allowance := YAllowance * max(1, mx)
 	if !diagonal || mx != mx || mx > math.MaxFloat64 {
 		return gaussian.SymmetricSqrtFactor(y, g, allowance)
 	}
@@ -449,7 +454,7 @@ func sqrtFactorY(y, g *gaussian.Matrix) error {
 		if lam < -allowance {
 			return fmt.Errorf("gaussian: matrix has eigenvalue %g < 0: not positive semidefinite", lam)
 		}
-		gd[i*n+i] = math.Sqrt(math.Max(lam, 0))
+		gd[i*n+i] = math.Sqrt(max(lam, 0))
 	}
 	return nil
 }

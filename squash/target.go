@@ -88,7 +88,7 @@ func (t *Target) Value(params []float64) float64 {
 		if err != nil || math.IsNaN(v) || v < -NegativeGuard {
 			return math.Inf(1)
 		}
-		best = math.Max(best, v)
+		best = max(best, v)
 	}
 	return best
 }
