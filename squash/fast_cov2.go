@@ -47,7 +47,7 @@ func (e *Evaluator) halfCovDirect2(xd, gd *[16]float64, jd *[64]float64) (float6
 		ab := &e.abx[a]
 		row[0], row[1], row[2], row[3], row[4], row[5] = ab[0], ab[1], ab[2], ab[3], 0, 0
 	}
-	eta, ok := covSignsMask(4, &pos, &neg)
+	eta, ok := covSignsMask4(&pos, &neg)
 	if !ok {
 		return 0, false, nil
 	}
@@ -274,3 +274,33 @@ func lqReflector(x0, s float64) (alpha, v0, beta float64) {
 
 // lqInRange reports whether a sum of squares s is in (2^-900, 2^900).
 func lqInRange(s float64) bool { return s > 0x1p-900 && s < 0x1p900 }
+
+// covSignsMask4 is covSignsMask(4, pos, neg), the same eta and ok, with a short path for
+// the usual case where rows 1 to 3 (E'2, A', B) each share a column with row 0 (E'1): the
+// sign of each row then follows from that overlap alone (in a consistent system every
+// overlap gives the same sign, and the solution seeded with eta_0 = +1 is unique), and the
+// system is consistent exactly when no column is required to be both +1 and -1 (P and N
+// below disjoint), which is what covSignsMask's final check tests. Other cases go to
+// covSignsMask.
+func covSignsMask4(pos, neg *[gaussian.MaxModes]uint16) (eta [gaussian.MaxModes]int8, ok bool) {
+	zp, zn := pos[0], neg[0]
+	p, n := zp, zn // columns required +1, -1
+	eta[0] = 1
+	for k := 1; k < 4; k++ {
+		agree := pos[k]&zp | neg[k]&zn
+		differ := pos[k]&zn | neg[k]&zp
+		switch {
+		case agree != 0:
+			eta[k] = 1
+			p |= pos[k]
+			n |= neg[k]
+		case differ != 0:
+			eta[k] = -1
+			p |= neg[k]
+			n |= pos[k]
+		default:
+			return covSignsMask(4, pos, neg)
+		}
+	}
+	return eta, p&n == 0
+}

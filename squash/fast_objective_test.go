@@ -287,3 +287,48 @@ func TestCovRowCheck6MatchesCovRowCheck(t *testing.T) {
 	}
 	t.Logf("%d of 200000 rows accepted", oks)
 }
+
+// covSignsMask4 gives covSignsMask(4, ...)'s eta and ok: random masks over six columns,
+// consistent systems (from random signs) and inconsistent ones (a flipped bit), rows
+// disconnected from row 0 and empty rows.
+func TestCovSignsMask4MatchesCovSignsMask(t *testing.T) {
+	rng := rand.New(rand.NewPCG(51, 52))
+	short := 0
+	for trial := 0; trial < 200000; trial++ {
+		var pos, neg [gaussian.MaxModes]uint16
+		var eta [4]int
+		var zeta [6]int
+		for i := range eta {
+			eta[i] = 2*rng.IntN(2) - 1
+		}
+		for j := range zeta {
+			zeta[j] = 2*rng.IntN(2) - 1
+		}
+		for i := 0; i < 4; i++ {
+			for j := 0; j < 6; j++ {
+				if rng.IntN(3) == 0 {
+					continue // zero entry
+				}
+				if eta[i]*zeta[j] > 0 {
+					pos[i] |= 1 << j
+				} else {
+					neg[i] |= 1 << j
+				}
+			}
+		}
+		if trial%3 == 0 { // perturb: a flipped or moved bit may make it inconsistent
+			i, j := rng.IntN(4), rng.IntN(6)
+			pos[i] ^= 1 << j
+			neg[i] &^= pos[i]
+		}
+		e1, ok1 := covSignsMask(4, &pos, &neg)
+		e2, ok2 := covSignsMask4(&pos, &neg)
+		if ok1 != ok2 || ok1 && e1 != e2 {
+			t.Fatalf("trial %d: pos %b neg %b: covSignsMask %v %v, covSignsMask4 %v %v", trial, pos[:4], neg[:4], e1, ok1, e2, ok2)
+		}
+		if (pos[1]|neg[1])&(pos[0]|neg[0]) != 0 && (pos[2]|neg[2])&(pos[0]|neg[0]) != 0 && (pos[3]|neg[3])&(pos[0]|neg[0]) != 0 {
+			short++
+		}
+	}
+	t.Logf("%d of 200000 on the short path", short)
+}
