@@ -101,74 +101,123 @@ func jacobiLockstepGen(k4 *[16]float64, k3a, k3b *[9]float64, d4 *[4]float64, d3
 		return false
 	}
 	for sweep := 0; sweep < jacobiMaxSweeps; sweep++ {
-		ma := absBits(a00)
-		if b := absBits(a11); b > ma {
-			ma = b
-		}
-		if b := absBits(a22); b > ma {
-			ma = b
-		}
-		if b := absBits(a33); b > ma {
-			ma = b
-		}
-		ta := eps * math.Float64frombits(ma)
-		oa := absBits(a01)
-		if b := absBits(a02); b > oa {
-			oa = b
-		}
-		if b := absBits(a03); b > oa {
-			oa = b
-		}
-		if b := absBits(a12); b > oa {
-			oa = b
-		}
-		if b := absBits(a13); b > oa {
-			oa = b
-		}
-		if b := absBits(a23); b > oa {
-			oa = b
-		}
-		la := oa <= math.Float64bits(ta)
-		mu := absBits(u00)
-		if b := absBits(u11); b > mu {
-			mu = b
-		}
-		if b := absBits(u22); b > mu {
-			mu = b
-		}
-		tu := eps * math.Float64frombits(mu)
-		ou := absBits(u01)
-		if b := absBits(u02); b > ou {
-			ou = b
-		}
-		if b := absBits(u12); b > ou {
-			ou = b
-		}
-		lu := ou <= math.Float64bits(tu)
-		mv := absBits(v00)
-		if b := absBits(v11); b > mv {
-			mv = b
-		}
-		if b := absBits(v22); b > mv {
-			mv = b
-		}
-		tv := eps * math.Float64frombits(mv)
-		ov := absBits(v01)
-		if b := absBits(v02); b > ov {
-			ov = b
-		}
-		if b := absBits(v12); b > ov {
-			ov = b
-		}
-		lv := ov <= math.Float64bits(tv)
-		if la && lu && lv ||
-			sweep >= jacobiQuadraticFrom && (la || oa <= math.Float64bits(jacobiGate*ta) && jacobiSettled(4, &[4][4]float64{{a00, a01, a02, a03}, {a01, a11, a12, a13}, {a02, a12, a22, a23}, {a03, a13, a23, a33}}, ta)) &&
-				(lu || ou <= math.Float64bits(jacobiGate*tu) && jacobiSettled(3, &[4][4]float64{{u00, u01, u02, 0}, {u01, u11, u12, 0}, {u02, u12, u22, 0}, {0, 0, 0, 0}}, tu)) &&
-				(lv || ov <= math.Float64bits(jacobiGate*tv) && jacobiSettled(3, &[4][4]float64{{v00, v01, v02, 0}, {v01, v11, v12, 0}, {v02, v12, v22, 0}, {0, 0, 0, 0}}, tv)) {
-			d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
-			d3a[0], d3a[1], d3a[2] = u00, u11, u22
-			d3b[0], d3b[1], d3b[2] = v00, v11, v22
-			return true
+		{
+			ma := absBits(a00)
+			if b := absBits(a11); b > ma {
+				ma = b
+			}
+			if b := absBits(a22); b > ma {
+				ma = b
+			}
+			if b := absBits(a33); b > ma {
+				ma = b
+			}
+			ta := eps * math.Float64frombits(ma)
+			oa := absBits(a01)
+			if b := absBits(a02); b > oa {
+				oa = b
+			}
+			if b := absBits(a03); b > oa {
+				oa = b
+			}
+			if b := absBits(a12); b > oa {
+				oa = b
+			}
+			if b := absBits(a13); b > oa {
+				oa = b
+			}
+			if b := absBits(a23); b > oa {
+				oa = b
+			}
+			la := oa <= math.Float64bits(ta)
+			mu := absBits(u00)
+			if b := absBits(u11); b > mu {
+				mu = b
+			}
+			if b := absBits(u22); b > mu {
+				mu = b
+			}
+			tu := eps * math.Float64frombits(mu)
+			ou := absBits(u01)
+			if b := absBits(u02); b > ou {
+				ou = b
+			}
+			if b := absBits(u12); b > ou {
+				ou = b
+			}
+			lu := ou <= math.Float64bits(tu)
+			mv := absBits(v00)
+			if b := absBits(v11); b > mv {
+				mv = b
+			}
+			if b := absBits(v22); b > mv {
+				mv = b
+			}
+			tv := eps * math.Float64frombits(mv)
+			ov := absBits(v01)
+			if b := absBits(v02); b > ov {
+				ov = b
+			}
+			if b := absBits(v12); b > ov {
+				ov = b
+			}
+			lv := ov <= math.Float64bits(tv)
+			if la && lu && lv {
+				d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
+				d3a[0], d3a[1], d3a[2] = u00, u11, u22
+				d3b[0], d3b[1], d3b[2] = v00, v11, v22
+				return true
+			}
+			if sweep >= jacobiQuadraticFrom {
+				qa := la
+				if !qa {
+					ga := absBits(a00 - a11)
+					if b := absBits(a00 - a22); b < ga {
+						ga = b
+					}
+					if b := absBits(a00 - a33); b < ga {
+						ga = b
+					}
+					if b := absBits(a11 - a22); b < ga {
+						ga = b
+					}
+					if b := absBits(a11 - a33); b < ga {
+						ga = b
+					}
+					if b := absBits(a22 - a33); b < ga {
+						ga = b
+					}
+					qa = jacobiSeparated(4, math.Float64frombits(oa), ta, math.Float64frombits(ga))
+				}
+				qu := lu
+				if !qu {
+					gu := absBits(u00 - u11)
+					if b := absBits(u00 - u22); b < gu {
+						gu = b
+					}
+					if b := absBits(u11 - u22); b < gu {
+						gu = b
+					}
+					qu = jacobiSeparated(3, math.Float64frombits(ou), tu, math.Float64frombits(gu))
+				}
+				qv := lv
+				if !qv {
+					gv := absBits(v00 - v11)
+					if b := absBits(v00 - v22); b < gv {
+						gv = b
+					}
+					if b := absBits(v11 - v22); b < gv {
+						gv = b
+					}
+					qv = jacobiSeparated(3, math.Float64frombits(ov), tv, math.Float64frombits(gv))
+				}
+				if qa && qu && qv {
+					d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
+					d3a[0], d3a[1], d3a[2] = u00, u11, u22
+					d3b[0], d3b[1], d3b[2] = v00, v11, v22
+					return true
+				}
+			}
 		}
 		// Round 0.
 		{
@@ -239,6 +288,124 @@ func jacobiLockstepGen(k4 *[16]float64, k3a, k3b *[9]float64, d4 *[4]float64, d3
 			v00, v11, v01 = v00-hv0, v11+hv0, 0
 			v02, v12 = cv0*v02-sv0*v12, sv0*v02+cv0*v12
 		}
+		if sweep >= jacobiQuadraticFrom {
+			ma := absBits(a00)
+			if b := absBits(a11); b > ma {
+				ma = b
+			}
+			if b := absBits(a22); b > ma {
+				ma = b
+			}
+			if b := absBits(a33); b > ma {
+				ma = b
+			}
+			ta := eps * math.Float64frombits(ma)
+			oa := absBits(a01)
+			if b := absBits(a02); b > oa {
+				oa = b
+			}
+			if b := absBits(a03); b > oa {
+				oa = b
+			}
+			if b := absBits(a12); b > oa {
+				oa = b
+			}
+			if b := absBits(a13); b > oa {
+				oa = b
+			}
+			if b := absBits(a23); b > oa {
+				oa = b
+			}
+			la := oa <= math.Float64bits(ta)
+			mu := absBits(u00)
+			if b := absBits(u11); b > mu {
+				mu = b
+			}
+			if b := absBits(u22); b > mu {
+				mu = b
+			}
+			tu := eps * math.Float64frombits(mu)
+			ou := absBits(u01)
+			if b := absBits(u02); b > ou {
+				ou = b
+			}
+			if b := absBits(u12); b > ou {
+				ou = b
+			}
+			lu := ou <= math.Float64bits(tu)
+			mv := absBits(v00)
+			if b := absBits(v11); b > mv {
+				mv = b
+			}
+			if b := absBits(v22); b > mv {
+				mv = b
+			}
+			tv := eps * math.Float64frombits(mv)
+			ov := absBits(v01)
+			if b := absBits(v02); b > ov {
+				ov = b
+			}
+			if b := absBits(v12); b > ov {
+				ov = b
+			}
+			lv := ov <= math.Float64bits(tv)
+			if la && lu && lv {
+				d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
+				d3a[0], d3a[1], d3a[2] = u00, u11, u22
+				d3b[0], d3b[1], d3b[2] = v00, v11, v22
+				return true
+			}
+			if sweep >= jacobiQuadraticFrom {
+				qa := la
+				if !qa {
+					ga := absBits(a00 - a11)
+					if b := absBits(a00 - a22); b < ga {
+						ga = b
+					}
+					if b := absBits(a00 - a33); b < ga {
+						ga = b
+					}
+					if b := absBits(a11 - a22); b < ga {
+						ga = b
+					}
+					if b := absBits(a11 - a33); b < ga {
+						ga = b
+					}
+					if b := absBits(a22 - a33); b < ga {
+						ga = b
+					}
+					qa = jacobiSeparated(4, math.Float64frombits(oa), ta, math.Float64frombits(ga))
+				}
+				qu := lu
+				if !qu {
+					gu := absBits(u00 - u11)
+					if b := absBits(u00 - u22); b < gu {
+						gu = b
+					}
+					if b := absBits(u11 - u22); b < gu {
+						gu = b
+					}
+					qu = jacobiSeparated(3, math.Float64frombits(ou), tu, math.Float64frombits(gu))
+				}
+				qv := lv
+				if !qv {
+					gv := absBits(v00 - v11)
+					if b := absBits(v00 - v22); b < gv {
+						gv = b
+					}
+					if b := absBits(v11 - v22); b < gv {
+						gv = b
+					}
+					qv = jacobiSeparated(3, math.Float64frombits(ov), tv, math.Float64frombits(gv))
+				}
+				if qa && qu && qv {
+					d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
+					d3a[0], d3a[1], d3a[2] = u00, u11, u22
+					d3b[0], d3b[1], d3b[2] = v00, v11, v22
+					return true
+				}
+			}
+		}
 		// Round 1.
 		{
 			da0 := a22 - a00
@@ -307,6 +474,124 @@ func jacobiLockstepGen(k4 *[16]float64, k3a, k3b *[9]float64, d4 *[4]float64, d3
 			u01, u12 = cu0*u01-su0*u12, su0*u01+cu0*u12
 			v00, v22, v02 = v00-hv0, v22+hv0, 0
 			v01, v12 = cv0*v01-sv0*v12, sv0*v01+cv0*v12
+		}
+		if sweep >= jacobiQuadraticFrom {
+			ma := absBits(a00)
+			if b := absBits(a11); b > ma {
+				ma = b
+			}
+			if b := absBits(a22); b > ma {
+				ma = b
+			}
+			if b := absBits(a33); b > ma {
+				ma = b
+			}
+			ta := eps * math.Float64frombits(ma)
+			oa := absBits(a01)
+			if b := absBits(a02); b > oa {
+				oa = b
+			}
+			if b := absBits(a03); b > oa {
+				oa = b
+			}
+			if b := absBits(a12); b > oa {
+				oa = b
+			}
+			if b := absBits(a13); b > oa {
+				oa = b
+			}
+			if b := absBits(a23); b > oa {
+				oa = b
+			}
+			la := oa <= math.Float64bits(ta)
+			mu := absBits(u00)
+			if b := absBits(u11); b > mu {
+				mu = b
+			}
+			if b := absBits(u22); b > mu {
+				mu = b
+			}
+			tu := eps * math.Float64frombits(mu)
+			ou := absBits(u01)
+			if b := absBits(u02); b > ou {
+				ou = b
+			}
+			if b := absBits(u12); b > ou {
+				ou = b
+			}
+			lu := ou <= math.Float64bits(tu)
+			mv := absBits(v00)
+			if b := absBits(v11); b > mv {
+				mv = b
+			}
+			if b := absBits(v22); b > mv {
+				mv = b
+			}
+			tv := eps * math.Float64frombits(mv)
+			ov := absBits(v01)
+			if b := absBits(v02); b > ov {
+				ov = b
+			}
+			if b := absBits(v12); b > ov {
+				ov = b
+			}
+			lv := ov <= math.Float64bits(tv)
+			if la && lu && lv {
+				d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
+				d3a[0], d3a[1], d3a[2] = u00, u11, u22
+				d3b[0], d3b[1], d3b[2] = v00, v11, v22
+				return true
+			}
+			if sweep >= jacobiQuadraticFrom {
+				qa := la
+				if !qa {
+					ga := absBits(a00 - a11)
+					if b := absBits(a00 - a22); b < ga {
+						ga = b
+					}
+					if b := absBits(a00 - a33); b < ga {
+						ga = b
+					}
+					if b := absBits(a11 - a22); b < ga {
+						ga = b
+					}
+					if b := absBits(a11 - a33); b < ga {
+						ga = b
+					}
+					if b := absBits(a22 - a33); b < ga {
+						ga = b
+					}
+					qa = jacobiSeparated(4, math.Float64frombits(oa), ta, math.Float64frombits(ga))
+				}
+				qu := lu
+				if !qu {
+					gu := absBits(u00 - u11)
+					if b := absBits(u00 - u22); b < gu {
+						gu = b
+					}
+					if b := absBits(u11 - u22); b < gu {
+						gu = b
+					}
+					qu = jacobiSeparated(3, math.Float64frombits(ou), tu, math.Float64frombits(gu))
+				}
+				qv := lv
+				if !qv {
+					gv := absBits(v00 - v11)
+					if b := absBits(v00 - v22); b < gv {
+						gv = b
+					}
+					if b := absBits(v11 - v22); b < gv {
+						gv = b
+					}
+					qv = jacobiSeparated(3, math.Float64frombits(ov), tv, math.Float64frombits(gv))
+				}
+				if qa && qu && qv {
+					d4[0], d4[1], d4[2], d4[3] = a00, a11, a22, a33
+					d3a[0], d3a[1], d3a[2] = u00, u11, u22
+					d3b[0], d3b[1], d3b[2] = v00, v11, v22
+					return true
+				}
+			}
 		}
 		// Round 2.
 		{

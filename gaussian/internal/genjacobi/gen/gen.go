@@ -31,6 +31,9 @@ func v(p problem, i, j int) string {
 	return fmt.Sprintf("%s%d%d", p.name, i, j)
 }
 
+// jacobiCheckWithin: emit the stopping tests before rounds 1 and 2 as well.
+var jacobiCheckWithin = true
+
 // Source returns the gofmt-ed source of fast_jacobi_gen.go.
 func Source() string {
 	var b strings.Builder
@@ -69,60 +72,94 @@ func Source() string {
 	w("return false")
 	w("}")
 	w("for sweep := 0; sweep < jacobiMaxSweeps; sweep++ {")
-	// Convergence of each matrix: every off-diagonal entry at most eps times its largest
-	// diagonal entry (the linear test), or, from sweep jacobiQuadraticFrom on, jacobiSettled.
-	var lin, quad []string
-	for _, p := range problems {
-		w("m%s := absBits(%s)", p.name, v(p, 0, 0))
-		for i := 1; i < p.n; i++ {
-			w("if b := absBits(%s); b > m%s {", v(p, i, i), p.name)
-			w("m%s = b", p.name)
-			w("}")
+	// check emits the stopping tests as a block; within a sweep (before rounds 1 and 2) only
+	// from sweep jacobiQuadraticFrom on, where the quadratic test may pass.
+	check := func(within bool) {
+		if within {
+			w("if sweep >= jacobiQuadraticFrom {")
+		} else {
+			w("{")
 		}
-		w("t%s := eps * math.Float64frombits(m%s)", p.name, p.name)
-		// o: the largest off-diagonal magnitude's bits; the linear test is o <= bits(t).
-		first := true
-		for i := 0; i < p.n; i++ {
-			for j := i + 1; j < p.n; j++ {
-				if first {
-					w("o%s := absBits(%s)", p.name, v(p, i, j))
-					first = false
-					continue
-				}
-				w("if b := absBits(%s); b > o%s {", v(p, i, j), p.name)
-				w("o%s = b", p.name)
+		// Convergence of each matrix: every off-diagonal entry at most eps times its largest
+		// diagonal entry (the linear test), or, from sweep jacobiQuadraticFrom on, jacobiSeparated.
+		var lin []string
+		for _, p := range problems {
+			w("m%s := absBits(%s)", p.name, v(p, 0, 0))
+			for i := 1; i < p.n; i++ {
+				w("if b := absBits(%s); b > m%s {", v(p, i, i), p.name)
+				w("m%s = b", p.name)
 				w("}")
 			}
-		}
-		w("l%s := o%s <= math.Float64bits(t%s)", p.name, p.name, p.name)
-		lin = append(lin, "l"+p.name)
-		var rows []string
-		for i := 0; i < 4; i++ {
-			var row []string
-			for j := 0; j < 4; j++ {
-				if i < p.n && j < p.n {
-					row = append(row, v(p, i, j))
-				} else {
-					row = append(row, "0")
+			w("t%s := eps * math.Float64frombits(m%s)", p.name, p.name)
+			// o: the largest off-diagonal magnitude's bits; the linear test is o <= bits(t).
+			first := true
+			for i := 0; i < p.n; i++ {
+				for j := i + 1; j < p.n; j++ {
+					if first {
+						w("o%s := absBits(%s)", p.name, v(p, i, j))
+						first = false
+						continue
+					}
+					w("if b := absBits(%s); b > o%s {", v(p, i, j), p.name)
+					w("o%s = b", p.name)
+					w("}")
 				}
 			}
-			rows = append(rows, "{"+strings.Join(row, ", ")+"}")
+			w("l%s := o%s <= math.Float64bits(t%s)", p.name, p.name, p.name)
+			lin = append(lin, "l"+p.name)
 		}
-		quad = append(quad, fmt.Sprintf("(l%s || o%s <= math.Float64bits(jacobiGate*t%s) && jacobiSettled(%d, &[4][4]float64{%s}, t%s))", p.name, p.name, p.name, p.n, strings.Join(rows, ", "), p.name))
-	}
-	w("if %s ||\nsweep >= jacobiQuadraticFrom && %s {", strings.Join(lin, " && "), strings.Join(quad, " &&\n"))
-	for _, p := range problems {
-		out := map[string]string{"k4": "d4", "k3a": "d3a", "k3b": "d3b"}[p.array]
-		var lhs, rhs []string
-		for i := 0; i < p.n; i++ {
-			lhs = append(lhs, fmt.Sprintf("%s[%d]", out, i))
-			rhs = append(rhs, v(p, i, i))
+		done := func() {
+			for _, p := range problems {
+				out := map[string]string{"k4": "d4", "k3a": "d3a", "k3b": "d3b"}[p.array]
+				var lhs, rhs []string
+				for i := 0; i < p.n; i++ {
+					lhs = append(lhs, fmt.Sprintf("%s[%d]", out, i))
+					rhs = append(rhs, v(p, i, i))
+				}
+				w("%s = %s", strings.Join(lhs, ", "), strings.Join(rhs, ", "))
+			}
+			w("return true")
 		}
-		w("%s = %s", strings.Join(lhs, ", "), strings.Join(rhs, ", "))
+		w("if %s {", strings.Join(lin, " && "))
+		done()
+		w("}")
+		// The quadratic test (jacobiSeparated) for the matrices that fail the linear one, from
+		// sweep jacobiQuadraticFrom on: it needs the smallest distance between diagonal entries.
+		w("if sweep >= jacobiQuadraticFrom {")
+		for _, p := range problems {
+			w("q%s := l%s", p.name, p.name)
+			w("if !q%s {", p.name)
+			first := true
+			for i := 0; i < p.n; i++ {
+				for j := i + 1; j < p.n; j++ {
+					if first {
+						w("g%s := absBits(%s - %s)", p.name, v(p, i, i), v(p, j, j))
+						first = false
+						continue
+					}
+					w("if b := absBits(%s - %s); b < g%s {", v(p, i, i), v(p, j, j), p.name)
+					w("g%s = b", p.name)
+					w("}")
+				}
+			}
+			w("q%s = jacobiSeparated(%d, math.Float64frombits(o%s), t%s, math.Float64frombits(g%s))", p.name, p.n, p.name, p.name, p.name)
+			w("}")
+		}
+		var qs []string
+		for _, p := range problems {
+			qs = append(qs, "q"+p.name)
+		}
+		w("if %s {", strings.Join(qs, " && "))
+		done()
+		w("}")
+		w("}")
+		w("}")
 	}
-	w("return true")
-	w("}")
+	check(false)
 	for r := 0; r < 3; r++ {
+		if r > 0 && jacobiCheckWithin {
+			check(true)
+		}
 		w("// Round %d.", r)
 		w("{")
 		type rot struct {
