@@ -197,12 +197,16 @@ type CovScratch2 struct {
 // eigenvalues come from jacobiLockstepGen (fast_jacobi.go): the same as CovBatch.Spectra's
 // Householder and QL to within a few eps |K|, not the same bits. When the Jacobi sweeps
 // decline (an entry not finite or too large, or no convergence) covSpectra2QL computes
-// them, as CovBatch.Spectra does, bit for bit. kAE, kBE and kABE may be overwritten. It
+// them, as CovBatch.Spectra does, bit for bit. Only the upper triangles of kAE, kBE and
+// kABE are read (the fallback copies them to the lower ones); they may be overwritten. It
 // does not allocate.
 func (w *CovScratch2) CovSpectra2(kAE, kBE *[9]float64, kABE *[16]float64, out *[4]Spectrum) {
 	var d4 [4]float64
 	var da, db [3]float64
 	if !jacobiLockstepGen(kABE, kAE, kBE, &d4, &da, &db) {
+		mirrorUpper(kAE[:], 3)
+		mirrorUpper(kBE[:], 3)
+		mirrorUpper(kABE[:], 4)
 		w.covSpectra2QL(kAE, kBE, kABE, out)
 		return
 	}
@@ -275,4 +279,13 @@ func (w *CovScratch2) covSpectra2QL(kAE, kBE *[9]float64, kABE *[16]float64, out
 	q[0].finish(&w.d0[0], &w.e0[0], &out[0])
 	q[1].finish(&w.d0[1], &w.e0[1], &out[1])
 	q[2].finish(&w.d0[2], &w.e0[2], &out[3])
+}
+
+// mirrorUpper copies the upper triangle of the n x n matrix k to its lower triangle.
+func mirrorUpper(k []float64, n int) {
+	for i := 0; i < n; i++ {
+		for j := i + 1; j < n; j++ {
+			k[j*n+i] = k[i*n+j]
+		}
+	}
 }

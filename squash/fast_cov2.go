@@ -79,26 +79,27 @@ func (e *Evaluator) covTail2(eta *[gaussian.MaxModes]int8, mxE, mxA, mxB float64
 	k01 := (s1 * l10) * l11
 	k11 := (s1 * l11) * l11
 	kE := [4]float64{k00, k01, k01, k11}
-	// A'E' and BE' (3 x 3): K_E plus the A' (B) row's term.
+	// A'E' and BE' (3 x 3): K_E plus the A' (B) row's term. Only the upper triangles:
+	// CovSpectra2 reads no more (its QL fallback mirrors them).
 	f0, f1, f2 := s2*l20, s2*l21, s2*l22
 	kAE := [9]float64{
 		k00 + f0*l20, k01 + f0*l21, f0 * l22,
-		k01 + f1*l20, k11 + f1*l21, f1 * l22,
-		f2 * l20, f2 * l21, f2 * l22,
+		0, k11 + f1*l21, f1 * l22,
+		0, 0, f2 * l22,
 	}
 	g0, g1, g2 := s3*l30, s3*l31, s3*lb2
 	kBE := [9]float64{
 		k00 + g0*l30, k01 + g0*l31, g0 * lb2,
-		k01 + g1*l30, k11 + g1*l31, g1 * lb2,
-		g2 * l30, g2 * l31, g2 * lb2,
+		0, k11 + g1*l31, g1 * lb2,
+		0, 0, g2 * lb2,
 	}
 	// A'BE' (4 x 4): K_A'E' plus the B row's term.
 	h0, h1, h2, h3 := s3*l30, s3*l31, s3*l32, s3*l33
 	kABE := [16]float64{
 		kAE[0] + h0*l30, kAE[1] + h0*l31, kAE[2] + h0*l32, h0 * l33,
-		kAE[3] + h1*l30, kAE[4] + h1*l31, kAE[5] + h1*l32, h1 * l33,
-		kAE[6] + h2*l30, kAE[7] + h2*l31, kAE[8] + h2*l32, h2 * l33,
-		h3 * l30, h3 * l31, h3 * l32, h3 * l33,
+		0, kAE[4] + h1*l31, kAE[5] + h1*l32, h1 * l33,
+		0, 0, kAE[8] + h2*l32, h2 * l33,
+		0, 0, 0, h3 * l33,
 	}
 	sp := &e.sp
 	gaussian.CovariantSpectrum(kE[:], 2, detE, &sp[2])
