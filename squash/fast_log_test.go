@@ -47,15 +47,15 @@ func TestLogTable(t *testing.T) {
 	}
 }
 
-// logInv agrees with math.Log to 4e-16 relative (about 2 ulps; both are within about
-// half an ulp of log x) over [2^-600, 2^600], near 1 and on [0.5, 2], and its 1/x to 2^-13.
-func TestLogInv(t *testing.T) {
+// logMid agrees with math.Log to 4e-16 relative (about 2 ulps; both are within about half
+// an ulp of log x) over [2^-600, 2^600], near 1 and on [0.5, 2].
+func TestLogMidRelative(t *testing.T) {
 	n := 3000000
 	if testing.Short() {
 		n = 300000
 	}
 	rng := rand.New(rand.NewPCG(41, 42))
-	worst, worstInv := 0.0, 0.0
+	worst := 0.0
 	for i := 0; i < n; i++ {
 		var x float64
 		switch i % 4 {
@@ -68,22 +68,18 @@ func TestLogInv(t *testing.T) {
 		default:
 			x = 1 + math.Exp2(-60*rng.Float64())*float64(2*rng.IntN(2)-1)
 		}
-		l, inv := logInv(x)
+		l := logMid(x)
 		ref := math.Log(x)
 		if ref == 0 {
 			if l != 0 {
-				t.Fatalf("logInv(%v) = %v, want 0", x, l)
+				t.Fatalf("logMid(%v) = %v, want 0", x, l)
 			}
 		} else if d := math.Abs(l-ref) / math.Abs(ref); d > worst {
 			worst = d
 			if d > 4e-16 {
-				t.Errorf("logInv(%v) = %v, math.Log %v (%.3g relative)", x, l, ref, d)
+				t.Errorf("logMid(%v) = %v, math.Log %v (%.3g relative)", x, l, ref, d)
 			}
 		}
-		worstInv = math.Max(worstInv, math.Abs(inv*x-1))
 	}
-	if worstInv > 0x1p-13 {
-		t.Errorf("1/x to %.3g relative", worstInv)
-	}
-	t.Logf("%d arguments: largest relative difference from math.Log %.3g; 1/x to %.3g", n, worst, worstInv)
+	t.Logf("%d arguments: largest relative difference from math.Log %.3g", n, worst)
 }
