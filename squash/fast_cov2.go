@@ -60,7 +60,7 @@ func (e *Evaluator) halfCovDirect2(xd, gd *[16]float64, jd *[64]float64) (float6
 // the spectra by gaussian.CovScratch2.
 func (e *Evaluator) covTail2(eta *[gaussian.MaxModes]int8, mxE, mxA, mxB float64) (float64, error) {
 	px := (*[24]float64)(e.px[:24])
-	lq46(px)
+	lb2 := lq46(px) // B row of the (E', B) factor: l30, l31, lb2
 	l00, l10, l11 := px[0], px[6], px[7]
 	l20, l21, l22 := px[12], px[13], px[14]
 	l30, l31, l32, l33 := px[18], px[19], px[20], px[21]
@@ -68,7 +68,6 @@ func (e *Evaluator) covTail2(eta *[gaussian.MaxModes]int8, mxE, mxA, mxB float64
 	detE *= detE
 	detA := l22 * l22
 	detB := l33 * l33
-	lb2 := hypotPlain(l32, l33) // B row of the (E', B) factor: l30, l31, lb2
 	detBE := detE * lb2 * lb2
 
 	// K = L^T eta L, with the operations of covTail's addCovTerm (eta = +-1: the products
@@ -187,18 +186,26 @@ func covRowCheck6(x, q *[6]float64) (mx float64, pos, neg uint16, ok bool) {
 // norms, and L L^T with A A^T as closely (TestLQ46AgainstLQ). A row whose sum of squares
 // over- or underflows (entries beyond about 2^+-450, far from any covariance factor here)
 // sends the whole matrix to gaussian.LQ, which takes such norms by math.Hypot.
-func lq46(a *[24]float64) {
+//
+// It also returns lb = hypot(l_32, l_33), the last entry of the B row of the (E', B)
+// factor: the norm of the B row on columns 2..5 once E'1 and E'2 are eliminated, which the
+// reflections of steps 2 and 3 leave unchanged, so it is known two steps early (off the
+// chain to the K matrices).
+func lq46(a *[24]float64) (lb float64) {
 	orig := *a
-	if !lq46Plain(a) {
+	lb, ok := lq46Plain(a)
+	if !ok {
 		*a = orig
 		gaussian.LQ(a[:], 4, 6)
+		lb = hypotPlain(a[20], a[21])
 	}
+	return lb
 }
 
 // lq46Plain is lq46 for rows whose sums of squares are in (2^-900, 2^900) (then no product
 // of two entries over- or underflows to a loss); it reports false, with a overwritten, at
 // the first row that is not (a zero row included: gaussian.LQ skips it).
-func lq46Plain(a *[24]float64) bool {
+func lq46Plain(a *[24]float64) (lb float64, ok bool) {
 	r0, r1, r2, r3 := (*[6]float64)(a[0:6]), (*[6]float64)(a[6:12]), (*[6]float64)(a[12:18]), (*[6]float64)(a[18:24])
 	// Step 0: row 0 on columns 0..5.
 	s := (r0[0]*r0[0] + r0[1]*r0[1]) + (r0[2]*r0[2] + r0[3]*r0[3]) + (r0[4]*r0[4] + r0[5]*r0[5])
@@ -206,7 +213,7 @@ func lq46Plain(a *[24]float64) bool {
 	d2 := (r2[0]*r0[0] + r2[1]*r0[1]) + (r2[2]*r0[2] + r2[3]*r0[3]) + (r2[4]*r0[4] + r2[5]*r0[5])
 	d3 := (r3[0]*r0[0] + r3[1]*r0[1]) + (r3[2]*r0[2] + r3[3]*r0[3]) + (r3[4]*r0[4] + r3[5]*r0[5])
 	if !lqInRange(s) {
-		return false
+		return 0, false
 	}
 	alpha, v0, beta := lqReflector(r0[0], s)
 	s1, s2, s3 := (d1-r1[0]*alpha)*beta, (d2-r2[0]*alpha)*beta, (d3-r3[0]*alpha)*beta
@@ -225,7 +232,7 @@ func lq46Plain(a *[24]float64) bool {
 	d2 = (r2[1]*r1[1] + r2[2]*r1[2]) + (r2[3]*r1[3] + r2[4]*r1[4]) + r2[5]*r1[5]
 	d3 = (r3[1]*r1[1] + r3[2]*r1[2]) + (r3[3]*r1[3] + r3[4]*r1[4]) + r3[5]*r1[5]
 	if !lqInRange(s) {
-		return false
+		return 0, false
 	}
 	alpha, v0, beta = lqReflector(r1[1], s)
 	s2, s3 = (d2-r2[1]*alpha)*beta, (d3-r3[1]*alpha)*beta
@@ -236,12 +243,13 @@ func lq46Plain(a *[24]float64) bool {
 		r3[j] -= s3 * r1[j]
 	}
 	r1[1], r1[2], r1[3], r1[4], r1[5] = alpha, 0, 0, 0, 0
+	lb = math.Sqrt((r3[2]*r3[2] + r3[3]*r3[3]) + (r3[4]*r3[4] + r3[5]*r3[5]))
 
 	// Step 2: row 2 on columns 2..5.
 	s = (r2[2]*r2[2] + r2[3]*r2[3]) + (r2[4]*r2[4] + r2[5]*r2[5])
 	d3 = (r3[2]*r2[2] + r3[3]*r2[3]) + (r3[4]*r2[4] + r3[5]*r2[5])
 	if !lqInRange(s) {
-		return false
+		return 0, false
 	}
 	alpha, v0, beta = lqReflector(r2[2], s)
 	s3 = (d3 - r3[2]*alpha) * beta
@@ -254,11 +262,11 @@ func lq46Plain(a *[24]float64) bool {
 	// Step 3: row 3 on columns 3..5.
 	s = (r3[3]*r3[3] + r3[4]*r3[4]) + r3[5]*r3[5]
 	if !lqInRange(s) {
-		return false
+		return 0, false
 	}
 	alpha, _, _ = lqReflector(r3[3], s)
 	r3[3], r3[4], r3[5] = alpha, 0, 0
-	return true
+	return lb, true
 }
 
 // lqReflector is gaussian.LQ's Householder reflector for a row with leading entry x0 and

@@ -191,9 +191,18 @@ func TestLQ46AgainstLQ(t *testing.T) {
 			}
 		}
 		l, g := a, a
-		lq46(&l)
+		lb := lq46(&l)
 		gaussian.LQ(g[:], 4, 6)
-		if p := a; !lq46Plain(&p) {
+		// lb is the norm of the B row's last two entries of L, taken before steps 2 and 3:
+		// equal to round-off in the B row's norm.
+		nB := 0.0
+		for j := 18; j < 24; j++ {
+			nB = math.Hypot(nB, a[j])
+		}
+		if h := math.Hypot(l[20], l[21]); h <= math.MaxFloat64 && !(math.Abs(lb-h) <= 8*eps*nB) {
+			t.Fatalf("trial %d: lq46's lb = %v, hypot(l32, l33) = %v", trial, lb, h)
+		}
+		if p := a; !lq46PlainOK(&p) {
 			delegated++
 			for i := range l {
 				if math.Float64bits(l[i]) != math.Float64bits(g[i]) && !(math.IsNaN(l[i]) && math.IsNaN(g[i])) {
@@ -331,4 +340,9 @@ func TestCovSignsMask4MatchesCovSignsMask(t *testing.T) {
 		}
 	}
 	t.Logf("%d of 200000 on the short path", short)
+}
+
+func lq46PlainOK(a *[24]float64) bool {
+	_, ok := lq46Plain(a)
+	return ok
 }
