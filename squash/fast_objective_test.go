@@ -346,3 +346,45 @@ func lq46PlainOK(a *[24]float64) bool {
 	_, ok := lq46Plain(a)
 	return ok
 }
+
+// sqrtFactorY4 (4 x 4 Y on an array) gives the general loop's results and errors: diagonal
+// and non-diagonal Y, negative eigenvalues within and beyond the allowance, signed zeros,
+// NaN and infinite entries. The loop form is the same code for n != 4, run here on a
+// 4 x 4 matrix through sqrtFactorYLoop.
+func TestSqrtFactorY4MatchesLoop(t *testing.T) {
+	rng := rand.New(rand.NewPCG(55, 56))
+	for trial := 0; trial < 50000; trial++ {
+		var y gaussian.Matrix
+		y.Reset(4, 4)
+		d := y.Data()
+		for i := 0; i < 4; i++ {
+			d[5*i] = math.Abs(rng.NormFloat64()) * []float64{1, 1e-8, 1e8}[rng.IntN(3)]
+		}
+		switch trial % 7 {
+		case 1:
+			d[1], d[4] = 0.1, 0.1 // not diagonal
+		case 2:
+			d[5*rng.IntN(4)] = -1e-13 // negative within the allowance
+		case 3:
+			d[5*rng.IntN(4)] = -1e-3 // negative beyond it
+		case 4:
+			d[1+rng.IntN(3)] = math.Copysign(0, -1)
+		case 5:
+			d[rng.IntN(16)] = []float64{math.NaN(), math.Inf(1), math.Inf(-1)}[rng.IntN(3)]
+		}
+		var g1, g2 gaussian.Matrix
+		e1 := sqrtFactorY4(&y, (*[16]float64)(d[:16]), &g1)
+		e2 := sqrtFactorYLoop(&y, &g2)
+		if (e1 == nil) != (e2 == nil) || e1 != nil && e1.Error() != e2.Error() {
+			t.Fatalf("trial %d: Y %v: errors %v and %v", trial, d[:16], e1, e2)
+		}
+		if e1 == nil {
+			a, b := g1.Data(), g2.Data()
+			for i := range a {
+				if math.Float64bits(a[i]) != math.Float64bits(b[i]) && !(math.IsNaN(a[i]) && math.IsNaN(b[i])) {
+					t.Fatalf("trial %d: Y %v: G %v and %v", trial, d[:16], a, b)
+				}
+			}
+		}
+	}
+}

@@ -425,6 +425,16 @@ func covSpectrumEntropy(sp *gaussian.Spectrum, det, mx float64) (float64, error)
 func sqrtFactorY(y, g *gaussian.Matrix) error {
 	n, _ := y.Dims()
 	yd := y.Data()
+	if n == 4 {
+		return sqrtFactorY4(y, (*[16]float64)(yd[:16]), g)
+	}
+	return sqrtFactorYLoop(y, g)
+}
+
+// sqrtFactorYLoop is sqrtFactorY for any size.
+func sqrtFactorYLoop(y, g *gaussian.Matrix) error {
+	n, _ := y.Dims()
+	yd := y.Data()
 	// The largest |Y_ij| as the largest bit pattern of the magnitudes (finite magnitudes order
 	// as their bits do, IEEE 754-2019 sec. 3.4, and a NaN's bits exceed +Inf's, so a NaN
 	// entry makes mx a NaN): a conditional move, where the float comparison was a branch
@@ -458,3 +468,34 @@ func sqrtFactorY(y, g *gaussian.Matrix) error {
 	}
 	return nil
 }
+
+// sqrtFactorY4 is sqrtFactorY for a 4 x 4 Y (two kept modes) on an array: the same results
+// and errors, with the off-diagonal test as one comparison of an OR of bit patterns.
+func sqrtFactorY4(y *gaussian.Matrix, yd *[16]float64, g *gaussian.Matrix) error {
+	var mb, off uint64
+	for i, v := range yd {
+		a := math.Float64bits(v) &^ (1 << 63)
+		if a > mb {
+			mb = a
+		}
+		if i%5 != 0 {
+			off |= a
+		}
+	}
+	mx := math.Float64frombits(mb)
+	allowance := YAllowance * max(1, mx)
+	if off != 0 || mx != mx || mx > math.MaxFloat64 {
+		return gaussian.SymmetricSqrtFactor(y, g, allowance)
+	}
+	g.Reset(4, 4)
+	gd := (*[16]float64)(g.Data()[:16])
+	for i := 0; i < 16; i += 5 {
+		lam := yd[i]
+		if lam < -allowance {
+			return fmt.Errorf("gaussian: matrix has eigenvalue %g < 0: not positive semidefinite", lam)
+		}
+		gd[i] = math.Sqrt(max(lam, 0))
+	}
+	return nil
+}
+
