@@ -498,4 +498,3 @@ func sqrtFactorY4(y *gaussian.Matrix, yd *[16]float64, g *gaussian.Matrix) error
 	}
 	return nil
 }
-
