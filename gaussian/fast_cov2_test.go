@@ -29,13 +29,7 @@ func TestCovSpectra2QLMatchesBatch(t *testing.T) {
 		var out, ref [4]Spectrum
 		CovariantSpectrum(ka2[:], 2, detE, &out[2])
 		w.covSpectra2QL(&kb3, &kc3, &kd4, &out)
-		ps := [4]CovProblem{
-			{K: append([]float64(nil), kAE[:]...), N: 3, Out: &ref[0]},
-			{K: append([]float64(nil), kBE[:]...), N: 3, Out: &ref[1]},
-			{K: append([]float64(nil), kE[:]...), N: 2, Det: detE, Out: &ref[2]},
-			{K: append([]float64(nil), kABE[:]...), N: 4, Out: &ref[3]},
-		}
-		b.Spectra(ps[:])
+		ref = batchSpectra(&b, &kE, &kAE, &kBE, &kABE, detE)
 		if out != ref {
 			t.Fatalf("trial %d: covSpectra2QL %v, CovBatch %v", trial, out, ref)
 		}

@@ -249,13 +249,7 @@ func TestCovSpectra2JacobiAccuracy(t *testing.T) {
 		kb, kc, kd := kAE, kBE, kABE
 		CovariantSpectrum(kE[:], 2, detE, &out[2])
 		w.CovSpectra2(&kb, &kc, &kd, &out)
-		ps := [4]CovProblem{
-			{K: append([]float64(nil), kAE[:]...), N: 3, Out: &ref[0]},
-			{K: append([]float64(nil), kBE[:]...), N: 3, Out: &ref[1]},
-			{K: append([]float64(nil), kE[:]...), N: 2, Det: detE, Out: &ref[2]},
-			{K: append([]float64(nil), kABE[:]...), N: 4, Out: &ref[3]},
-		}
-		b.Spectra(ps[:])
+		ref = batchSpectra(&b, &kE, &kAE, &kBE, &kABE, detE)
 		for pi, k := range [][]float64{kAE[:], kBE[:], nil, kABE[:]} {
 			if k == nil {
 				continue
@@ -435,4 +429,17 @@ func TestJacobiSeparatedBound(t *testing.T) {
 		t.Fatalf("only %d matrices accepted: the test does not exercise the bound", accepted)
 	}
 	t.Logf("%d of 3000 accepted", accepted)
+}
+
+// batchSpectra is CovBatch.Spectra on copies of the four problems, in CovSpectra2's order
+// (A'E', BE', E', A'BE').
+func batchSpectra(b *CovBatch, kE *[4]float64, kAE, kBE *[9]float64, kABE *[16]float64, detE float64) (ref [4]Spectrum) {
+	ps := [4]CovProblem{
+		{K: append([]float64(nil), kAE[:]...), N: 3, Out: &ref[0]},
+		{K: append([]float64(nil), kBE[:]...), N: 3, Out: &ref[1]},
+		{K: append([]float64(nil), kE[:]...), N: 2, Det: detE, Out: &ref[2]},
+		{K: append([]float64(nil), kABE[:]...), N: 4, Out: &ref[3]},
+	}
+	b.Spectra(ps[:])
+	return ref
 }
