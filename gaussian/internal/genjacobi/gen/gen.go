@@ -24,6 +24,7 @@ var problems = []problem{
 	{"v", 3, "k3b", [3][][2]int{{{0, 1}}, {{0, 2}}, {{1, 2}}}},
 }
 
+// v is the name of the variable holding entry (i, j) of p (the upper triangle's).
 func v(p problem, i, j int) string {
 	if i > j {
 		i, j = j, i
@@ -31,8 +32,9 @@ func v(p problem, i, j int) string {
 	return fmt.Sprintf("%s%d%d", p.name, i, j)
 }
 
-// jacobiCheckWithin: emit the stopping tests before rounds 1 and 2 as well.
-var jacobiCheckWithin = true
+// checkWithin: emit the stopping tests before rounds 1 and 2 of a sweep as well (measured
+// 1% faster than at the start of sweeps only).
+const checkWithin = true
 
 // Source returns the gofmt-ed source of fast_jacobi_gen.go.
 func Source() string {
@@ -157,7 +159,7 @@ func Source() string {
 	}
 	check(false)
 	for r := 0; r < 3; r++ {
-		if r > 0 && jacobiCheckWithin {
+		if r > 0 && checkWithin {
 			check(true)
 		}
 		w("// Round %d.", r)
