@@ -297,18 +297,23 @@ func TestCovSpectra2JacobiAccuracy(t *testing.T) {
 	t.Logf("largest differences, in units of eps max|K_ij|: from QL %.2f, from 256-bit Jacobi %.2f", worstQL, worstBig)
 }
 
-// A matrix the sweeps decline (an entry above jacobiMaxEntry) gets the QL route's spectra.
+// A matrix the sweeps decline (an entry above jacobiMaxEntry) gets CovBatch.Spectra's
+// spectra (Householder and QL) from the upper triangles.
 func TestCovSpectra2FallsBackToQL(t *testing.T) {
 	rng := rand.New(rand.NewPCG(45, 46))
-	_, kAE, kBE, kABE := randomCovK(rng, 1)
+	kE, kAE, kBE, kABE := randomCovK(rng, 1)
 	kABE[0] = 0x1p450
+	mirrorUpper(kAE[:], 3)
+	mirrorUpper(kBE[:], 3)
+	mirrorUpper(kABE[:], 4)
 	var w CovScratch2
-	var out, ref [4]Spectrum
+	var b CovBatch
+	var out [4]Spectrum
 	kb, kc, kd := kAE, kBE, kABE
+	CovariantSpectrum(kE[:], 2, 1.5, &out[2])
 	w.CovSpectra2(&kb, &kc, &kd, &out)
-	w.covSpectra2QL(&kAE, &kBE, &kABE, &ref)
-	if out != ref {
-		t.Fatalf("CovSpectra2 %v, covSpectra2QL %v", out, ref)
+	if ref := batchSpectra(&b, &kE, &kAE, &kBE, &kABE, 1.5); out != ref {
+		t.Fatalf("CovSpectra2 %v, CovBatch.Spectra %v", out, ref)
 	}
 }
 
